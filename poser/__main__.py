@@ -1,0 +1,3 @@
+from poser.cli import entry
+
+entry()

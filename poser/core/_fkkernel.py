@@ -1,0 +1,316 @@
+"""A straight-line batched forward-kinematics kernel, generated once per chain.
+
+The tool pose ``head @ M_1 @ G_1 @ M_2 @ ... @ M_n @ tail`` is carried as nine
+rotation entries and three position entries.  While an entry is still a
+constant it stays a Python float; once it depends on a joint it is one row of
+a buffer shaped (buffers, chunk).  Multiplying by the constant link
+transforms then costs only the non-zero, non-unit entries of each DH matrix,
+signs are carried symbolically (a −1 costs nothing), and every numpy call
+writes into a preallocated buffer.  This is what makes the batched FK run
+close to the cost of the joint sines and cosines alone.
+
+:func:`build_kernel` returns the function and its source, which is kept on
+the chain (``chain._fk_kernel_source``) so the generated code can be read.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+
+import numpy as np
+
+__all__ = ["build_kernel", "build_scalar_kernel"]
+
+
+@dataclass(frozen=True)
+class Const:
+    value: float
+
+
+@dataclass(frozen=True)
+class Var:
+    name: str
+    sign: float = 1.0
+
+
+class _Emitter:
+    def __init__(self):
+        self.lines: list[str] = []
+        self.free: list[str] = []
+        self.nbuf = 0
+        self.refs: dict[str, int] = {}
+
+    def new(self) -> str:
+        if self.free:
+            name = self.free.pop()
+        else:
+            name = f"b[{self.nbuf}]"
+            self.nbuf += 1
+        self.refs[name] = 0
+        return name
+
+    def hold(self, v):
+        if isinstance(v, Var) and v.name in self.refs:
+            self.refs[v.name] += 1
+        return v
+
+    def drop(self, v):
+        if isinstance(v, Var) and v.name in self.refs:
+            self.refs[v.name] -= 1
+            if self.refs[v.name] == 0:
+                del self.refs[v.name]
+                self.free.append(v.name)
+
+    def op(self, name: str, a, b, out: str):
+        """Record ``out = a <name> b``; ``a`` and ``b`` are buffer names or floats."""
+        self.lines.append((name, a, b, out))
+
+    def render(self, scalar: bool) -> list[str]:
+        sym = {"mul": "*", "add": "+", "sub": "-"}
+        lines = []
+        for name, a, b, o in self.lines:
+            a, b = (repr(v) if isinstance(v, float) else v for v in (a, b))
+            if scalar:
+                lines.append(f"    {o} = {a} {sym[name]} {b}")
+            else:
+                lines.append(f"    {name}({a}, {b}, out={o})")
+        return lines
+
+    def combine(self, terms):
+        """Emit ``sum(coef * x * y)`` for terms ``(coef, x, y)``; ``y`` may be None.
+
+        Returns a Const or a Var (not yet held).
+        """
+        K = 0.0
+        lin = []  # (e, name)
+        prod = []  # (e, name_x, name_y)
+        for coef, x, y in terms:
+            if coef == 0.0:
+                continue
+            if y is None:
+                if isinstance(x, Const):
+                    K += coef * x.value
+                elif coef * x.sign != 0.0:
+                    lin.append((coef * x.sign, x.name))
+            else:
+                if isinstance(x, Const) and isinstance(y, Const):
+                    K += coef * x.value * y.value
+                elif isinstance(x, Const):
+                    if x.value != 0.0:
+                        lin.append((coef * x.value * y.sign, y.name))
+                elif isinstance(y, Const):
+                    if y.value != 0.0:
+                        lin.append((coef * y.value * x.sign, x.name))
+                else:
+                    prod.append((coef * x.sign * y.sign, x.name, y.name))
+        if not lin and not prod:
+            return Const(K)
+        if not prod and len(lin) == 1 and K == 0.0 and abs(lin[0][0]) == 1.0:
+            return Var(lin[0][1], lin[0][0])
+        # Pick the output's sign so that most coefficients become +1.
+        # Products first: when none is positive, flip the output's sign (free).
+        if prod:
+            sigma = -1.0 if all(e < 0 for e, *_ in prod) else 1.0
+        else:
+            sigma = -1.0 if sum(1 for e, _ in lin if e < 0) > len(lin) / 2 else 1.0
+        prod.sort(key=lambda t: t[0] * sigma < 0)
+        lin = [(e * sigma, n) for e, n in lin]
+        prod = [(e * sigma, a, b) for e, a, b in prod]
+        K *= sigma
+        o = self.new()
+        started = False
+        for e, a, b in prod:
+            if not started:
+                self.op("mul", a, b, o)
+                if e != 1.0:
+                    self.op("mul", o, e, o)
+                started = True
+            else:
+                t = self.new()
+                self.op("mul", a, b, t)
+                if abs(e) == 1.0:
+                    self.op("add" if e > 0 else "sub", o, t, o)
+                else:
+                    self.op("mul", t, e, t)
+                    self.op("add", o, t, o)
+                self.free.append(t)
+                del self.refs[t]
+        lin.sort(key=lambda en: (en[0] != 1.0, abs(en[0]) != 1.0))
+        for e, n in lin:
+            if not started:
+                if e == 1.0 and len(lin) > 1:
+                    e2, n2 = lin[1]
+                    if abs(e2) == 1.0:
+                        self.op("add" if e2 > 0 else "sub", n, n2, o)
+                    else:
+                        self.op("mul", n2, e2, o)
+                        self.op("add", o, n, o)
+                    lin = lin[2:]
+                    started = True
+                    break
+                self.op("mul", n, e, o)
+                lin = lin[1:]
+                started = True
+                break
+        for e, n in lin:
+            if abs(e) == 1.0:
+                self.op("add" if e > 0 else "sub", o, n, o)
+            else:
+                t = self.new()
+                self.op("mul", n, e, t)
+                self.op("add", o, t, o)
+                self.free.append(t)
+                del self.refs[t]
+        if K != 0.0:
+            self.op("add", o, K, o)
+        return Var(o, sigma)
+
+
+def _plan(head, links, tail, revolute):
+    """Record the operations of ``head @ M_1 @ links[0] @ ... @ M_n @ tail``."""
+    em = _Emitter()
+    n = len(revolute)
+    rev_idx = [k for k in range(n) if revolute[k]]
+    r = [[Const(float(head[i, j])) for j in range(3)] for i in range(3)]
+    p = [Const(float(head[i, 3])) for i in range(3)]
+    consts = list(links) + [tail]
+
+    def replace(old_entries, new_entries):
+        for v in new_entries:
+            em.hold(v)
+        for v in old_entries:
+            em.drop(v)
+
+    for k in range(n):
+        if revolute[k]:
+            row = rev_idx.index(k)
+            c, s = Var(f"C[{row}]"), Var(f"S[{row}]")
+            new_r = [row_[:] for row_ in r]
+            for i in range(3):
+                a, b = r[i][0], r[i][1]
+                new_r[i][0] = em.combine([(1.0, a, c), (1.0, b, s)])
+                em.hold(new_r[i][0])
+                new_r[i][1] = em.combine([(1.0, b, c), (-1.0, a, s)])
+                em.hold(new_r[i][1])
+            for i in range(3):
+                em.drop(r[i][0])
+                em.drop(r[i][1])
+            r = new_r
+        else:
+            qv = Var(f"qT[{k}]")
+            new_p = []
+            for i in range(3):
+                v = em.combine([(1.0, p[i], None), (1.0, r[i][2], qv)])
+                em.hold(v)
+                new_p.append(v)
+            for v in p:
+                em.drop(v)
+            p = new_p
+        G = consts[k]
+        new_r = [[None] * 3 for _ in range(3)]
+        for i in range(3):
+            for j in range(3):
+                v = em.combine([(float(G[kk, j]), r[i][kk], None) for kk in range(3)])
+                em.hold(v)
+                new_r[i][j] = v
+        new_p = []
+        for i in range(3):
+            v = em.combine([(1.0, p[i], None)] + [(float(G[kk, 3]), r[i][kk], None) for kk in range(3)])
+            em.hold(v)
+            new_p.append(v)
+        replace([v for row_ in r for v in row_] + p, [])
+        r, p = new_r, new_p
+
+    return em, r, p, rev_idx
+
+
+def _scalar_name(v: str) -> str:
+    return re.sub(r"(\w+)\[(\d+)\]", lambda m: {"b": "b", "C": "c", "S": "s", "qT": "q"}[m.group(1)] + m.group(2), v)
+
+
+def build_kernel(head, links, tail, revolute):
+    """Generate the batched kernel for a chain.
+
+    Parameters
+    ----------
+    head, tail : ndarray, shape (4, 4)
+    links : sequence of ndarray, shape (4, 4), length n - 1
+    revolute : sequence of bool, length n
+
+    Returns
+    -------
+    kernel : callable ``kernel(qT, out)``
+        ``qT`` shaped (n, m) contiguous joint values (internal units),
+        ``out`` shaped (m, 4, 4); writes the upper three rows of ``out``.
+    source : str
+    """
+    em, r, p, rev_idx = _plan(head, links, tail, revolute)
+    n = len(revolute)
+    body = []
+    for i in range(3):
+        for j in range(4):
+            v = r[i][j] if j < 3 else p[i]
+            dst = f"out[:, {i}, {j}]"
+            if isinstance(v, Const):
+                body.append(f"    {dst} = {v.value!r}")
+            elif v.sign > 0:
+                body.append(f"    copyto({dst}, {v.name})")
+            else:
+                body.append(f"    neg({v.name}, out={dst})")
+    head_lines = [
+        "def kernel(qT, out):",
+        "    m = qT.shape[1]",
+        f"    b = empty(({max(em.nbuf, 1)}, m))",
+    ]
+    if rev_idx:
+        head_lines += [
+            f"    qr = qT[{rev_idx!r}]" if len(rev_idx) < n else "    qr = qT",
+            "    C = cos(qr)",
+            "    S = sin(qr)",
+        ]
+    source = "\n".join(head_lines + em.render(scalar=False) + body) + "\n"
+    namespace = {
+        "empty": np.empty,
+        "cos": np.cos,
+        "sin": np.sin,
+        "mul": np.multiply,
+        "add": np.add,
+        "sub": np.subtract,
+        "neg": np.negative,
+        "copyto": np.copyto,
+    }
+    exec(compile(source, "<poser fk kernel>", "exec"), namespace)
+    return namespace["kernel"], source
+
+
+def build_scalar_kernel(head, links, tail, revolute):
+    """Generate the one-configuration kernel: the same plan as :func:`build_kernel`
+    in plain Python floats, returning the 3x4 upper part of the tool pose as a
+    tuple of rows.  ``kernel(q)`` takes a sequence of n floats (internal units).
+
+    Returns
+    -------
+    kernel : callable
+    source : str
+    """
+    em, r, p, rev_idx = _plan(head, links, tail, revolute)
+    n = len(revolute)
+    lines = ["def kernel(q):"]
+    lines.append("    " + ", ".join(f"q{k}" for k in range(n)) + (", = q" if n == 1 else " = q"))
+    for row, k in enumerate(rev_idx):
+        lines.append(f"    c{row} = cos(q{k}); s{row} = sin(q{k})")
+    lines += [_scalar_name(line) for line in em.render(scalar=True)]
+
+    def val(v):
+        if isinstance(v, Const):
+            return repr(v.value)
+        return _scalar_name(v.name) if v.sign > 0 else "-" + _scalar_name(v.name)
+
+    rows = ", ".join("(" + ", ".join(val(r[i][j]) for j in range(3)) + f", {val(p[i])})" for i in range(3))
+    lines.append(f"    return ({rows})")
+    source = "\n".join(lines) + "\n"
+    namespace = {"cos": math.cos, "sin": math.sin}
+    exec(compile(source, "<poser fk scalar kernel>", "exec"), namespace)
+    return namespace["kernel"], source

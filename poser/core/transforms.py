@@ -1,0 +1,191 @@
+"""Homogeneous transforms and roll-pitch-yaw angles, batched.
+
+Every function accepts leading batch dimensions: angles shaped ``(...)``,
+points shaped ``(..., 3)`` and transforms shaped ``(..., 4, 4)``.  Angles are
+in radians; lengths are in whatever unit the caller uses (the core never
+converts lengths).
+
+Roll-pitch-yaw follows the convention of the arm file: rotations about the
+fixed X, Y, Z axes, in that order, i.e. ``R = Rz(yaw) @ Ry(pitch) @ Rx(roll)``
+(scipy's ``Rotation.from_euler("xyz", [roll, pitch, yaw])``).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from poser.core.errors import PoserValueError
+
+__all__ = [
+    "cos_sin",
+    "rot_x",
+    "rot_y",
+    "rot_z",
+    "from_rotation_translation",
+    "from_xyz_rpy",
+    "as_xyz_rpy",
+    "rpy_to_matrix",
+    "matrix_to_rpy",
+    "invert",
+    "translation",
+    "rotation_error",
+]
+
+
+def cos_sin(angle):
+    """Cosine and sine of ``angle`` (radians), exact at multiples of 90°.
+
+    ``np.cos(np.pi / 2)`` is 6.1e-17, not 0; a DH table full of 90° twists
+    would carry that noise into every matrix.  Values within 1e-15 of 0 or
+    ±1 are snapped, which only ever moves a result towards the true value.
+
+    Parameters
+    ----------
+    angle : array_like, shape (...)
+        Angles in radians.
+
+    Returns
+    -------
+    c, s : ndarray, shape (...)
+    """
+    a = np.asarray(angle, dtype=float)
+    c = np.cos(a)
+    s = np.sin(a)
+
+    def snap(v):
+        v = np.where(np.abs(v) < 1e-15, 0.0, v)
+        return np.where(np.abs(np.abs(v) - 1.0) < 1e-15, np.sign(v), v)
+
+    return snap(c), snap(s)
+
+
+def _rot(angle, axis):
+    c, s = cos_sin(angle)
+    shape = c.shape
+    R = np.zeros(shape + (3, 3))
+    i, j = {0: (1, 2), 1: (2, 0), 2: (0, 1)}[axis]
+    R[..., axis, axis] = 1.0
+    R[..., i, i] = c
+    R[..., j, j] = c
+    R[..., i, j] = -s
+    R[..., j, i] = s
+    return R
+
+
+def rot_x(angle):
+    """Rotation matrices about X. ``angle`` (...) rad → (..., 3, 3)."""
+    return _rot(angle, 0)
+
+
+def rot_y(angle):
+    """Rotation matrices about Y. ``angle`` (...) rad → (..., 3, 3)."""
+    return _rot(angle, 1)
+
+
+def rot_z(angle):
+    """Rotation matrices about Z. ``angle`` (...) rad → (..., 3, 3)."""
+    return _rot(angle, 2)
+
+
+def _as_points(name, value):
+    arr = np.asarray(value, dtype=float)
+    if arr.ndim == 0 or arr.shape[-1] != 3:
+        raise PoserValueError(f"{name} must have shape (..., 3), got shape {arr.shape}")
+    return arr
+
+
+def _as_transforms(name, value):
+    arr = np.asarray(value, dtype=float)
+    if arr.ndim < 2 or arr.shape[-2:] != (4, 4):
+        raise PoserValueError(f"{name} must have shape (..., 4, 4), got shape {arr.shape}")
+    return arr
+
+
+def from_rotation_translation(R, p):
+    """Assemble transforms from rotations ``R`` (..., 3, 3) and translations ``p`` (..., 3)."""
+    R = np.asarray(R, dtype=float)
+    p = _as_points("p", p)
+    if R.shape[-2:] != (3, 3):
+        raise PoserValueError(f"R must have shape (..., 3, 3), got shape {R.shape}")
+    shape = np.broadcast_shapes(R.shape[:-2], p.shape[:-1])
+    T = np.zeros(shape + (4, 4))
+    T[..., :3, :3] = R
+    T[..., :3, 3] = p
+    T[..., 3, 3] = 1.0
+    return T
+
+
+def translation(p):
+    """Pure translations. ``p`` (..., 3) → (..., 4, 4)."""
+    p = _as_points("p", p)
+    return from_rotation_translation(np.broadcast_to(np.eye(3), p.shape[:-1] + (3, 3)), p)
+
+
+def rpy_to_matrix(rpy):
+    """Rotation matrices from roll, pitch, yaw about fixed X, Y, Z.
+
+    Parameters
+    ----------
+    rpy : array_like, shape (..., 3)
+        Roll, pitch, yaw in radians.
+
+    Returns
+    -------
+    ndarray, shape (..., 3, 3)
+        ``Rz(yaw) @ Ry(pitch) @ Rx(roll)``.
+    """
+    rpy = _as_points("rpy", rpy)
+    return rot_z(rpy[..., 2]) @ rot_y(rpy[..., 1]) @ rot_x(rpy[..., 0])
+
+
+def matrix_to_rpy(R):
+    """Roll, pitch, yaw (radians) of rotation matrices ``R`` (..., 3, 3) → (..., 3).
+
+    Pitch lies in [-π/2, π/2].  At pitch = ±π/2 (gimbal lock) roll and yaw
+    are not separable; the whole rotation is then put into yaw and roll is 0.
+    """
+    R = np.asarray(R, dtype=float)
+    if R.ndim < 2 or R.shape[-2:] != (3, 3):
+        raise PoserValueError(f"R must have shape (..., 3, 3), got shape {R.shape}")
+    r20 = np.clip(R[..., 2, 0], -1.0, 1.0)
+    pitch = np.arcsin(-r20)
+    cp = np.hypot(R[..., 0, 0], R[..., 1, 0])
+    locked = cp < 1e-12
+    roll = np.where(locked, 0.0, np.arctan2(R[..., 2, 1], R[..., 2, 2]))
+    # In gimbal lock, R = Rz(yaw) Ry(±90°) with roll = 0; read yaw from the
+    # first two rows of the middle column: R01 = -sin(yaw), R11 = cos(yaw).
+    yaw = np.where(locked, np.arctan2(-R[..., 0, 1], R[..., 1, 1]), np.arctan2(R[..., 1, 0], R[..., 0, 0]))
+    pitch = np.where(locked, np.where(r20 < 0, np.pi / 2, -np.pi / 2), np.arctan2(-R[..., 2, 0], cp))
+    return np.stack([roll, pitch, yaw], axis=-1)
+
+
+def from_xyz_rpy(xyz, rpy):
+    """Transforms from positions ``xyz`` (..., 3) and roll-pitch-yaw ``rpy`` (..., 3), radians."""
+    return from_rotation_translation(rpy_to_matrix(rpy), _as_points("xyz", xyz))
+
+
+def as_xyz_rpy(T):
+    """Split transforms ``T`` (..., 4, 4) into ``xyz`` (..., 3) and ``rpy`` (..., 3) radians."""
+    T = _as_transforms("T", T)
+    return T[..., :3, 3].copy(), matrix_to_rpy(T[..., :3, :3])
+
+
+def invert(T):
+    """Inverse of rigid transforms ``T`` (..., 4, 4), using ``R.T`` rather than a general inverse."""
+    T = _as_transforms("T", T)
+    R = T[..., :3, :3]
+    Rt = np.swapaxes(R, -1, -2)
+    p = T[..., :3, 3]
+    return from_rotation_translation(Rt, -np.einsum("...ij,...j->...i", Rt, p))
+
+
+def rotation_error(Ra, Rb):
+    """Angle (radians) of the rotation taking ``Rb`` to ``Ra``; shapes (..., 3, 3) → (...)."""
+    Ra = np.asarray(Ra, dtype=float)
+    Rb = np.asarray(Rb, dtype=float)
+    Rd = np.swapaxes(Rb, -1, -2) @ Ra
+    # Robust near 0 and π: atan2(|vee(Rd - Rd^T)|/2, (tr - 1)/2).
+    v = np.stack([Rd[..., 2, 1] - Rd[..., 1, 2], Rd[..., 0, 2] - Rd[..., 2, 0], Rd[..., 1, 0] - Rd[..., 0, 1]], axis=-1)
+    s = 0.5 * np.linalg.norm(v, axis=-1)
+    c = 0.5 * (np.trace(Rd, axis1=-2, axis2=-1) - 1.0)
+    return np.arctan2(s, c)
