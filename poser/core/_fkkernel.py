@@ -230,6 +230,19 @@ def _scalar_name(v: str) -> str:
     return re.sub(r"(\w+)\[(\d+)\]", lambda m: {"b": "b", "C": "c", "S": "s", "qT": "q"}[m.group(1)] + m.group(2), v)
 
 
+def _redirect_last_write(ops, name, dst) -> bool:
+    """Make the last operation that writes buffer ``name`` write ``dst`` instead, when
+    nothing reads the buffer afterwards; saves one copy pass per output entry."""
+    for k in range(len(ops) - 1, -1, -1):
+        op, a, b, o = ops[k]
+        if o == name:
+            ops[k] = (op, a, b, dst)
+            return True
+        if name in (a, b):
+            return False
+    return False
+
+
 def build_kernel(head, links, tail, revolute):
     """Generate the batched kernel for a chain.
 
@@ -248,17 +261,22 @@ def build_kernel(head, links, tail, revolute):
     """
     em, r, p, rev_idx = _plan(head, links, tail, revolute)
     n = len(revolute)
+    finals = [((i, j), r[i][j] if j < 3 else p[i]) for i in range(3) for j in range(4)]
+    uses = {}
+    for _, v in finals:
+        if isinstance(v, Var):
+            uses[v.name] = uses.get(v.name, 0) + 1
     body = []
-    for i in range(3):
-        for j in range(4):
-            v = r[i][j] if j < 3 else p[i]
-            dst = f"out[:, {i}, {j}]"
-            if isinstance(v, Const):
-                body.append(f"    {dst} = {v.value!r}")
-            elif v.sign > 0:
-                body.append(f"    copyto({dst}, {v.name})")
-            else:
-                body.append(f"    neg({v.name}, out={dst})")
+    for (i, j), v in finals:
+        dst = f"out[:, {i}, {j}]"
+        if isinstance(v, Const):
+            body.append(f"    {dst} = {v.value!r}")
+        elif v.sign > 0 and uses[v.name] == 1 and _redirect_last_write(em.lines, v.name, dst):
+            pass  # the last operation on this entry now writes straight into ``out``
+        elif v.sign > 0:
+            body.append(f"    copyto({dst}, {v.name})")
+        else:
+            body.append(f"    neg({v.name}, out={dst})")
     head_lines = [
         "def kernel(qT, out):",
         "    m = qT.shape[1]",
