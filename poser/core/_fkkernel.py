@@ -140,6 +140,16 @@ class _Emitter:
         lin.sort(key=lambda en: (en[0] != 1.0, abs(en[0]) != 1.0))
         for e, n in lin:
             if not started:
+                if e == -1.0 and len(lin) > 1:
+                    e2, n2 = lin[1]  # -x + e2 y: start from the other term, then subtract
+                    if e2 == 1.0:
+                        self.op("sub", n2, n, o)
+                    else:
+                        self.op("mul", n2, e2, o)
+                        self.op("sub", o, n, o)
+                    lin = lin[2:]
+                    started = True
+                    break
                 if e == 1.0 and len(lin) > 1:
                     e2, n2 = lin[1]
                     if abs(e2) == 1.0:
@@ -254,9 +264,12 @@ def build_kernel(head, links, tail, revolute):
 
     Returns
     -------
-    kernel : callable ``kernel(qT, out)``
+    kernel : callable ``kernel(qT, out, b, C, S)``
         ``qT`` shaped (n, m) contiguous joint values (internal units),
-        ``out`` shaped (m, 4, 4); writes the upper three rows of ``out``.
+        ``out`` shaped (m, 4, 4) receives the poses; ``b`` (nbuf, m),
+        ``C`` and ``S`` (number of revolute joints, m) are scratch arrays the
+        caller keeps between calls (a fresh allocation per chunk would cost
+        page faults).  ``kernel.nbuf`` and ``kernel.nrev`` give their sizes.
     source : str
     """
     em, r, p, rev_idx = _plan(head, links, tail, revolute)
@@ -278,16 +291,15 @@ def build_kernel(head, links, tail, revolute):
         else:
             body.append(f"    neg({v.name}, out={dst})")
     head_lines = [
-        "def kernel(qT, out):",
-        "    m = qT.shape[1]",
-        f"    b = empty(({max(em.nbuf, 1)}, m))",
+        "def kernel(qT, out, b, C, S):",
     ]
     if rev_idx:
         head_lines += [
             f"    qr = qT[{rev_idx!r}]" if len(rev_idx) < n else "    qr = qT",
-            "    C = cos(qr)",
-            "    S = sin(qr)",
+            "    cos(qr, out=C)",
+            "    sin(qr, out=S)",
         ]
+    body += ["    out[:, 3, :3] = 0.0", "    out[:, 3, 3] = 1.0"]
     source = "\n".join(head_lines + em.render(scalar=False) + body) + "\n"
     namespace = {
         "empty": np.empty,
@@ -300,7 +312,10 @@ def build_kernel(head, links, tail, revolute):
         "copyto": np.copyto,
     }
     exec(compile(source, "<poser fk kernel>", "exec"), namespace)
-    return namespace["kernel"], source
+    kernel = namespace["kernel"]
+    kernel.nbuf = max(em.nbuf, 1)
+    kernel.nrev = max(len(rev_idx), 1)
+    return kernel, source
 
 
 def build_scalar_kernel(head, links, tail, revolute):

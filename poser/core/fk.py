@@ -7,12 +7,14 @@ length unit for prismatic ones); see :meth:`poser.core.chain.Chain.q_from_user`.
 from __future__ import annotations
 
 import os
+import threading
 from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
 
 from poser.core._fkkernel import build_kernel, build_scalar_kernel
 from poser.core.chain import Chain
+from poser.core.errors import PoserValueError
 
 __all__ = ["fk", "frames", "link_transforms", "CHUNK"]
 
@@ -44,7 +46,8 @@ def fk(chain: Chain, q, out=None):
     q : array_like, shape (..., n)
         Joint values, internal units (rad; length unit).
     out : ndarray, shape (..., 4, 4), optional
-        Where to write the result (batched calls only).
+        Where to write the result: C-contiguous float64 with the leading
+        shape of ``q``.  Returned when given.
 
     Returns
     -------
@@ -52,17 +55,27 @@ def fk(chain: Chain, q, out=None):
         ``base @ A_1(q_1) @ ... @ A_n(q_n) @ tool``; lengths in the arm's unit.
     """
     q = chain.check_q(q)
-    if q.ndim == 1:
-        return _fk_single(chain, q)
     lead = q.shape[:-1]
+    if out is not None and not (
+        isinstance(out, np.ndarray)
+        and out.shape == lead + (4, 4)
+        and out.dtype == np.float64
+        and out.flags.c_contiguous
+        and out.flags.writeable
+    ):
+        got = f"shape {out.shape}, dtype {out.dtype}" if isinstance(out, np.ndarray) else type(out).__name__
+        raise PoserValueError(f"out must be a writeable C-contiguous float64 array of shape {lead + (4, 4)}, got {got}")
+    if q.ndim == 1:
+        if out is None:
+            return _fk_single(chain, q)
+        out[...] = _fk_single(chain, q)
+        return out
     flat = np.ascontiguousarray(q.reshape(-1, chain.n))
     N = flat.shape[0]
     if out is None:
         res = np.empty((N, 4, 4))
     else:
-        res = out.reshape(N, 4, 4)
-    res[:, 3, :3] = 0.0
-    res[:, 3, 3] = 1.0
+        res = out.reshape(N, 4, 4)  # a view: out is C-contiguous
     _kernel(chain)  # build once, before any worker thread needs it
     starts = range(0, N, CHUNK)
     if N >= _PARALLEL_MIN and _workers() > 1:
@@ -90,9 +103,30 @@ def _kernel(chain: Chain):
     return kernel
 
 
+_scratch = threading.local()
+
+
 def _fk_chunk(chain: Chain, q, out):
-    """Tool poses of one chunk through the chain's generated kernel (see :mod:`poser.core._fkkernel`)."""
-    chain._fk_kernel(np.ascontiguousarray(q.T), out)
+    """Tool poses of one chunk through the chain's generated kernel (see :mod:`poser.core._fkkernel`).
+
+    Scratch arrays are kept per thread and reused, so a chunk allocates nothing.
+    """
+    kernel = chain._fk_kernel
+    m = q.shape[0]
+    key = (kernel.nbuf, kernel.nrev, chain.n, m)
+    bufs = getattr(_scratch, "bufs", None)
+    if bufs is None or bufs[0] != key:
+        bufs = (
+            key,
+            np.empty((kernel.nbuf, m)),
+            np.empty((kernel.nrev, m)),
+            np.empty((kernel.nrev, m)),
+            np.empty((chain.n, m)),
+        )
+        _scratch.bufs = bufs
+    _, b, C, S, qT = bufs
+    np.copyto(qT, q.T)
+    kernel(qT, out, b, C, S)
 
 
 def link_transforms(chain: Chain, q):
