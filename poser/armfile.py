@@ -25,6 +25,7 @@ from pathlib import Path
 import numpy as np
 import tomlkit
 import tomlkit.exceptions
+import tomlkit.items
 
 from poser.core.chain import Chain
 from poser.core.dh import CONVENTIONS, DHRow, chain_from_dh
@@ -108,7 +109,7 @@ class ArmSpec:
         rows = []
         for j in self.joints:
             scale = rad if j.type == "revolute" else 1.0
-            home = j.home if j.home is not None else (0.0 if j.min <= 0.0 <= j.max else (j.min + j.max) / 2)
+            home = j.home if j.home is not None else (0.0 if j.min <= 0.0 <= j.max else j.min / 2 + j.max / 2)
             rows.append(
                 DHRow(
                     j.name,
@@ -130,7 +131,7 @@ class ArmSpec:
         """Home value of every joint in the arm's units (0, or mid-range when 0 is outside the limits)."""
         out = []
         for j in self.joints:
-            out.append(j.home if j.home is not None else (0.0 if j.min <= 0.0 <= j.max else (j.min + j.max) / 2))
+            out.append(j.home if j.home is not None else (0.0 if j.min <= 0.0 <= j.max else j.min / 2 + j.max / 2))
         return out
 
     def copy(self) -> ArmSpec:
@@ -159,6 +160,14 @@ def _is_number(v) -> bool:
     return isinstance(v, (int, float)) and not isinstance(v, bool)
 
 
+def _is_finite(v) -> bool:
+    """``math.isfinite`` that answers False (instead of raising) for integers too large for a float."""
+    try:
+        return math.isfinite(v)
+    except OverflowError:
+        return False
+
+
 def validate(spec: ArmSpec, file: str = "<arm>", lines: _Lines | None = None) -> list[Problem]:
     """Check an :class:`ArmSpec` and return every problem found (empty when valid)."""
     lines = lines or _Lines("")
@@ -171,16 +180,11 @@ def validate(spec: ArmSpec, file: str = "<arm>", lines: _Lines | None = None) ->
         bad(f"name must be a non-empty text, got {spec.name!r}", lines.key(None, "name"))
     if spec.convention not in CONVENTIONS:
         bad(f"convention must be 'standard' or 'modified', got {spec.convention!r}", lines.key(None, "convention"))
-    for label, vec in (
-        ("base", spec.base_xyz),
-        ("base", spec.base_rpy),
-        ("tool", spec.tool_xyz),
-        ("tool", spec.tool_rpy),
-    ):
-        key = "xyz" if vec is getattr(spec, f"{label}_xyz") else "rpy"
+    for label, key in (("base", "xyz"), ("base", "rpy"), ("tool", "xyz"), ("tool", "rpy")):
+        vec = getattr(spec, f"{label}_{key}")
         if len(vec) != 3 or not all(_is_number(v) for v in vec):
             bad(f"[{label}] {key} must be a list of three numbers, got {list(vec)!r}", lines.key(label, key))
-        elif not all(math.isfinite(v) for v in vec):
+        elif not all(_is_finite(v) for v in vec):
             bad(f"[{label}] {key} must be finite, got {list(vec)!r}", lines.key(label, key))
     if not spec.joints:
         bad("the arm has no joints; add at least one [[joint]] table")
@@ -202,7 +206,7 @@ def validate(spec: ArmSpec, file: str = "<arm>", lines: _Lines | None = None) ->
         if j.type not in JOINT_TYPES:
             bad(f"type must be 'revolute' or 'prismatic', got {j.type!r}", jline("type"), jname)
         unit = spec.units.angle if j.type == "revolute" else spec.units.length
-        numbers_ok = True
+        bad_keys = set()  # keys whose value is missing or not a finite number
         for key in ("a", "alpha", "d", "theta", "min", "max", "home"):
             v = getattr(j, key)
             if key == "home" and v is None:
@@ -213,17 +217,17 @@ def validate(spec: ArmSpec, file: str = "<arm>", lines: _Lines | None = None) ->
                     lines.table(("joint", idx)),
                     jname,
                 )
-                numbers_ok = False
+                bad_keys.add(key)
             elif not _is_number(v):
                 bad(f"{key} must be a number, got {v!r}", jline(key), jname)
-                numbers_ok = False
-            elif not math.isfinite(v):
+                bad_keys.add(key)
+            elif not _is_finite(v):
                 bad(f"{key} must be finite, got {v!r}", jline(key), jname)
-                numbers_ok = False
-        if numbers_ok:
+                bad_keys.add(key)
+        if not bad_keys & {"min", "max"}:  # the limits are checked even when, say, a is wrong
             if not j.min < j.max:
                 bad(f"min must be below max, got min = {j.min} and max = {j.max} {unit}", jline("min"), jname)
-            elif j.home is not None and not j.min <= j.home <= j.max:
+            elif j.home is not None and "home" not in bad_keys and not j.min <= j.home <= j.max:
                 bad(f"home must lie within [{j.min}, {j.max}] {unit}, got {j.home}", jline("home"), jname)
     return out
 
@@ -232,38 +236,51 @@ def validate(spec: ArmSpec, file: str = "<arm>", lines: _Lines | None = None) ->
 
 
 class _Lines:
-    """Finds the line of a table or key in the source text (1-based), where it can."""
+    """Finds the line of a table or key in the source text (1-based), where it can.
+
+    One pass indexes every table header and every ``key =`` line by the table
+    it sits in (``None`` for the top level, ``"units"`` for ``[units]``,
+    ``("joint", i)`` for the i-th ``[[joint]]``); a dotted key is indexed by
+    its first part.  Lookups are then constant time.
+    """
+
+    _HEADER = re.compile(r"^\s*(\[\[?)\s*([^\[\]#]+?)\s*\]\]?\s*(#.*)?$")
+    _KEY = re.compile(r"""^\s*("[^"]*"|'[^']*'|[A-Za-z0-9_-]+)\s*[.=]""")
 
     def __init__(self, text: str):
-        self.rows = text.splitlines()
+        self.headers: dict = {}
+        self.keys: dict = {}
+        self.repeats: dict = {}  # key or table name → line of its first repetition
+        counts: dict = {}
+        where = None
+        for i, row in enumerate(text.splitlines()):
+            m = self._HEADER.match(row)
+            if m:
+                name = m.group(2)
+                if m.group(1) == "[[":
+                    where = (name, counts.get(name, 0))
+                    counts[name] = where[1] + 1
+                else:
+                    where = name
+                if where in self.headers and not isinstance(where, tuple):
+                    self.repeats.setdefault(name, i + 1)
+                self.headers.setdefault(where, i + 1)
+                continue
+            m = self._KEY.match(row)
+            if m:
+                k = (where, m.group(1).strip("\"'"))
+                if k in self.keys:
+                    self.repeats.setdefault(k[1], i + 1)
+                self.keys.setdefault(k, i + 1)
 
     def table(self, which):
-        if which is None:
-            return None
-        if isinstance(which, tuple):
-            name, idx = which
-            pat = re.compile(r"^\s*\[\[\s*" + re.escape(name) + r"\s*\]\]")
-            hits = [i for i, row in enumerate(self.rows) if pat.match(row)]
-            return hits[idx] + 1 if idx < len(hits) else None
-        pat = re.compile(r"^\s*\[\s*" + re.escape(which) + r"\s*\]")
-        for i, row in enumerate(self.rows):
-            if pat.match(row):
-                return i + 1
-        return None
+        return None if which is None else self.headers.get(which)
 
     def key(self, which, key):
-        start = 0 if which is None else self.table(which)
-        if which is not None and start is None:
-            return None
-        pat = re.compile(r"^\s*" + re.escape(key) + r"\s*=")
-        for i in range(start or 0, len(self.rows)):
-            row = self.rows[i]
-            if i >= (start or 0) + (1 if which is not None else 0) and re.match(r"^\s*\[", row):
-                if which is None or i != start - 1:
-                    break
-            if pat.match(row):
-                return i + 1
-        return None
+        return self.keys.get((which, key))
+
+    def repeat(self, name):
+        return self.repeats.get(name)
 
 
 def _plain(v):
@@ -286,10 +303,13 @@ def loads(text: str, file: str = "<arm>") -> ArmSpec:
 
     try:
         doc = tomlkit.parse(text)
-    except tomlkit.exceptions.ParseError as exc:
+    except Exception as exc:  # ParseError, and a few plain errors on odd input
+        dup = re.match(r'Key "(.*)" already exists', str(exc))
+        if dup:  # tomlkit places these on the line after the repeat, or nowhere: find the repeat ourselves
+            raise ArmFileError(
+                [Problem(f'not valid TOML: "{dup.group(1)}" is given twice', file, lines.repeat(dup.group(1)))]
+            ) from None
         raise ArmFileError([Problem(f"not valid TOML: {exc}", file, getattr(exc, "line", None))]) from None
-    except Exception as exc:  # tomlkit raises a few plain errors on odd input
-        raise ArmFileError([Problem(f"not valid TOML: {exc}", file)]) from None
     data = _plain(doc)
 
     for key in data:
@@ -318,12 +338,12 @@ def loads(text: str, file: str = "<arm>") -> ArmSpec:
                 bad(f"unknown key {key!r} in [units]; expected length or angle", lines.key("units", key))
         length = units_tbl.get("length", "mm")
         angle = units_tbl.get("angle", "deg")
-        if length not in LENGTH_UNITS:
+        if not isinstance(length, str) or length not in LENGTH_UNITS:
             bad(
                 f"[units] length must be one of {', '.join(LENGTH_UNITS)}, got {length!r}", lines.key("units", "length")
             )
             length = "mm"
-        if angle not in ANGLE_UNITS:
+        if not isinstance(angle, str) or angle not in ANGLE_UNITS:
             bad(f"[units] angle must be one of {', '.join(ANGLE_UNITS)}, got {angle!r}", lines.key("units", "angle"))
             angle = "deg"
 
@@ -354,9 +374,10 @@ def loads(text: str, file: str = "<arm>") -> ArmSpec:
     joints: list[JointSpec] = []
     tables = doc.get("joint") if isinstance(joints_raw, list) else None
     if not isinstance(joints_raw, list) or not all(isinstance(t, dict) for t in joints_raw):
-        bad("joints must be [[joint]] tables", lines.key(None, "joint"))
+        bad("joints must be [[joint]] tables", lines.key(None, "joint") or lines.table("joint"))
         joints_raw = []
-    if len(joints_raw) > MAX_JOINTS:
+    too_many = len(joints_raw) > MAX_JOINTS
+    if too_many:
         bad(f"the arm has {len(joints_raw)} joints; at most {MAX_JOINTS} are supported")
         joints_raw = []
     for idx, tbl in enumerate(joints_raw):
@@ -395,7 +416,10 @@ def loads(text: str, file: str = "<arm>") -> ArmSpec:
         notes=notes,
         _doc=doc,
     )
-    problems += validate(spec, file, lines)
+    found = validate(spec, file, lines)
+    if too_many:  # the joints were dropped above; "no joints" would be false
+        found = [p for p in found if not p.message.startswith("the arm has no joints")]
+    problems += found
     if problems:
         raise ArmFileError(problems)
     return spec
@@ -419,11 +443,15 @@ def load(path) -> ArmSpec:
             raise ArmFileError(
                 [Problem(f"file is {size} bytes; an arm file may hold at most {MAX_BYTES} (1 MiB)", file)]
             )
-        raw = path.read_bytes()
+        with open(path, "rb") as fh:  # bounded: a device or pipe may report size 0 and never end
+            raw = fh.read(MAX_BYTES + 1)
+        if len(raw) > MAX_BYTES:
+            too_big = f"file holds more than {MAX_BYTES} bytes; an arm file may hold at most 1 MiB"
+            raise ArmFileError([Problem(too_big, file)])
     except ArmFileError:
         raise
-    except OSError as exc:
-        raise ArmFileError([Problem(f"cannot read the file: {exc.strerror or exc}", file)]) from None
+    except (OSError, ValueError) as exc:  # ValueError: e.g. a NUL character in the path
+        raise ArmFileError([Problem(f"cannot read the file: {getattr(exc, 'strerror', None) or exc}", file)]) from None
     return loads_bytes(raw, file)
 
 
@@ -507,11 +535,17 @@ def dumps(spec: ArmSpec) -> str:
     _set(doc["units"], "angle", spec.units.angle)
     _set_vec(doc, "base", spec.base_xyz, spec.base_rpy)
     _set_vec(doc, "tool", spec.tool_xyz, spec.tool_rpy)
-    if spec.notes and "notes" not in doc:
+    if "notes" in doc:
+        if _plain(doc["notes"]) != spec.notes:
+            if spec.notes:
+                doc["notes"] = spec.notes
+            else:
+                del doc["notes"]
+    elif spec.notes:
         doc["notes"] = spec.notes
-    aot = tomlkit.aot()
+    tables = []
     for j in spec.joints:
-        tbl = j._table if j._table is not None else tomlkit.table()
+        tbl = j._table if isinstance(j._table, tomlkit.items.Table) else tomlkit.table()
         _set(tbl, "name", j.name)
         _set(tbl, "type", j.type)
         for key in ("a", "alpha", "d", "theta"):
@@ -519,6 +553,19 @@ def dumps(spec: ArmSpec) -> str:
         _set(tbl, "min", j.min)
         _set(tbl, "max", j.max)
         _set(tbl, "home", j.home)
+        tables.append(tbl)
+    old = doc.get("joint")
+    if isinstance(old, tomlkit.items.AoT) and len(old) == len(tables) and all(a is b for a, b in zip(old, tables)):
+        return tomlkit.dumps(doc)  # same joints in the same order: edited in place, layout untouched
+    # Joints added, removed or reordered: rebuild the array.  A parsed AoT adds no blank line before
+    # tables that already carry their own spacing (an unparsed one would add one on every save).
+    aot = tomlkit.items.AoT([], name="joint", parsed=True)
+    for k, tbl in enumerate(tables):
+        if not any(tbl is t for t in (old or [])):  # a new table: one blank line before it
+            if k and not tables[k - 1].as_string().endswith("\n\n") and "\n" not in tbl.trivia.indent:
+                tbl.trivia.indent = "\n" + tbl.trivia.indent
+            if k + 1 < len(tables):
+                tbl.add(tomlkit.nl())
         aot.append(tbl)
     if "joint" in doc:
         doc["joint"] = aot
@@ -536,14 +583,22 @@ def save(spec: ArmSpec, path) -> None:
     path = Path(path)
     text = dumps(spec)
     folder = path.parent if str(path.parent) else Path(".")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
+    except OSError as exc:
+        raise ArmFileError([Problem(f"cannot save here: {exc.strerror or exc}", str(path))]) from None
     try:
         with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
             fh.write(text)
             fh.flush()
             os.fsync(fh.fileno())
         if path.exists():
-            os.chmod(tmp, path.stat().st_mode & 0o777)
+            mode = path.stat().st_mode & 0o777
+        else:  # a new file gets the usual permissions, not mkstemp's private 0600
+            umask = os.umask(0)
+            os.umask(umask)
+            mode = 0o666 & ~umask
+        os.chmod(tmp, mode)
         os.replace(tmp, path)
     except BaseException:
         try:

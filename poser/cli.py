@@ -243,7 +243,17 @@ def build_parsers():
     return main, {"check": (check, cmd_check), "fk": (fk, cmd_fk), "ik": (ik, cmd_ik)}
 
 
+def _tolerant_output():
+    """Never fail on a terminal that cannot show a character (an ASCII or Latin-1 locale): escape it."""
+    for stream in (sys.stdout, sys.stderr):
+        try:
+            stream.reconfigure(errors="backslashreplace")
+        except (AttributeError, ValueError, OSError):
+            pass
+
+
 def main(argv=None) -> int:
+    _tolerant_output()
     argv = list(sys.argv[1:] if argv is None else argv)
     argv = _glue_negative_lists(argv)
     main_parser, subs = build_parsers()

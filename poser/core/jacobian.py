@@ -8,6 +8,7 @@ from __future__ import annotations
 import numpy as np
 
 from poser.core.chain import Chain
+from poser.core.errors import PoserValueError
 from poser.core.fk import frames
 
 __all__ = ["jacobian", "manipulability", "condition_number", "limit_margins", "joint_axes"]
@@ -62,7 +63,7 @@ def jacobian(chain: Chain, q):
 def _singular_values(J):
     J = np.asarray(J, dtype=float)
     if J.ndim < 2:
-        raise ValueError(f"J must have shape (..., m, n), got shape {J.shape}")
+        raise PoserValueError(f"J must have shape (..., m, n), got shape {J.shape}")
     return np.linalg.svd(J, compute_uv=False)
 
 
