@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 import re
 import sys
 
@@ -180,18 +181,29 @@ def cmd_ik(args) -> int:
     return run_ik(args, spec, chain)
 
 
+def _has_display() -> bool:
+    """Whether Qt can open a window here (Qt aborts the process when it cannot)."""
+    if os.environ.get("QT_QPA_PLATFORM"):
+        return True
+    if sys.platform.startswith("linux"):
+        return bool(os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY"))
+    return True
+
+
 def cmd_window(args) -> int:
+    if not _has_display():
+        if not args.snapshot:
+            raise UsageError(
+                "no display to open the window on (DISPLAY is not set); run it on a desktop, under "
+                "'xvfb-run -a -s \"-screen 0 1600x1000x24 +extension GLX +render\" poser …', "
+                "or render a picture with --snapshot OUT.png"
+            )
+        # A snapshot needs no screen: Qt's offscreen platform draws the 2D three-view.
+        os.environ["QT_QPA_PLATFORM"] = "offscreen"
     try:
         from poser.ui.app import run
     except ImportError as exc:
-        if "poser.ui" in str(exc) or "No module named 'poser" in str(exc):
-            print(
-                "poser: the posing window is not part of this build yet; use 'poser check', 'poser fk' "
-                "or 'poser ik' (see 'poser --help')",
-                file=sys.stderr,
-            )
-        else:
-            print(f"poser: error: the window cannot start: {exc}", file=sys.stderr)
+        print(f"poser: error: the window cannot start: {exc}", file=sys.stderr)
         return 2
     return run(args)
 

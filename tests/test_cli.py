@@ -284,3 +284,18 @@ def test_subprocess_on_a_terminal_that_cannot_show_unicode():
     proc = _poser("fk", "demo_arms/planar3.toml", "--joints", "-30,45,0", "--frames", env=env)
     assert proc.returncode == 0 and "Traceback" not in proc.stderr
     assert "world \\u2192 tool:" in proc.stdout
+
+
+def test_window_without_display_is_a_clear_error(monkeypatch, capsys):
+    """Without any display Qt would abort the process; poser says why and exits 2 instead."""
+    import sys as _sys
+
+    from poser import cli
+
+    for var in ("DISPLAY", "WAYLAND_DISPLAY", "QT_QPA_PLATFORM"):
+        monkeypatch.delenv(var, raising=False)
+    monkeypatch.setattr(_sys, "platform", "linux")
+    assert cli.main([]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and err[0].startswith("poser: error: no display")
+    assert "--snapshot" in err[0]
