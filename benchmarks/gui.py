@@ -1,0 +1,147 @@
+#!/usr/bin/env python3
+"""The window's speed figures (a section of benchmarks/run.py; also runs on its own).
+
+    python benchmarks/gui.py [--quick] [--json]
+
+* ``gui_frame_ms`` — median time from a joint change (``PoseState.set_q``) to the
+  next frame the 3D view has rendered (QOpenGLWidget.frameSwapped): Heron 6, a
+  1280x800 window, every panel live, software OpenGL (Mesa llvmpipe under Xvfb).
+* ``gui_start_s`` — from starting ``python -m poser`` to its first rendered frame
+  (median of three starts).
+
+Both are measured in child processes.  Without a display the child runs under
+``xvfb-run`` (with GLX); a figure is never a pass or a fail.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import shutil
+import statistics
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+HERE = Path(__file__).resolve().parent
+ROOT = HERE.parent
+XVFB = ["xvfb-run", "-a", "-s", "-screen 0 1600x1000x24 +extension GLX +render"]
+
+GOALS = {
+    "gui_frame_ms": "<= 16 ms (joint change to next rendered frame; Heron 6, 1280x800, software GL)",
+    "gui_frame_p90_ms": "reference: 90th percentile of the same",
+    "gui_start_s": "<= 2 s (process start to first rendered frame)",
+    "gui_renderer": "OpenGL renderer the figures were taken with",
+}
+
+
+def _frames_child(n: int) -> dict:
+    """Runs inside the child: build the window and time joint changes to rendered frames."""
+    sys.path.insert(0, str(ROOT))
+    import numpy as np
+    from PySide6.QtCore import QCoreApplication, Qt
+    from PySide6.QtWidgets import QApplication
+
+    QCoreApplication.setAttribute(Qt.ApplicationAttribute.AA_ShareOpenGLContexts)
+    app = QApplication.instance() or QApplication(["poser-bench"])
+    from poser import armfile
+    from poser.ui.app import default_arm
+    from poser.ui.main_window import MainWindow
+
+    path = default_arm()
+    win = MainWindow(armfile.load(path), path, interactive=False)
+    win.resize(1280, 800)
+    if win.view.kind != "3d":
+        raise RuntimeError(f"no 3D view: {win.gl_reason}")
+    win.render_now()
+    glw = win.view.view
+    st = win.state
+    base = st.chain.q_from_user(np.array([20.0, 30.0, 20.0, 30.0, -40.0, 10.0]))
+    times = []
+    for k in range(n + 5):
+        q = base.copy()
+        q[k % st.chain.n] += 0.02 * (1 + k % 7)
+        start = glw.frames_rendered
+        t0 = time.perf_counter()
+        st.set_q(q)
+        while glw.frames_rendered == start:
+            app.processEvents()
+        dt = time.perf_counter() - t0
+        if k >= 5:  # the first few warm caches
+            times.append(dt * 1e3)
+    from OpenGL import GL
+
+    glw.makeCurrent()
+    renderer = GL.glGetString(GL.GL_RENDERER).decode("ascii", "replace")
+    glw.doneCurrent()
+    win.close()
+    times.sort()
+    return {
+        "gui_frame_ms": statistics.median(times),
+        "gui_frame_p90_ms": times[int(0.9 * (len(times) - 1))],
+        "gui_renderer": renderer,
+    }
+
+
+def _start_once() -> float:
+    env = dict(os.environ, POSER_EXIT_AFTER_FIRST_FRAME="1", POSER_RECOVERY_DIR=str(Path("/tmp") / "poser-bench-rec"))
+    t0 = time.perf_counter()
+    p = subprocess.Popen([sys.executable, "-m", "poser"], cwd=ROOT, env=env, stdout=subprocess.PIPE,
+                         stderr=subprocess.PIPE, text=True)
+    line = ""
+    while True:
+        line = p.stdout.readline()
+        if not line or line.startswith("first-frame"):
+            break
+    t = time.perf_counter() - t0
+    p.communicate(timeout=30)
+    if not line.startswith("first-frame"):
+        raise RuntimeError(f"the window did not report a first frame (exit {p.returncode}): {p.stderr}")
+    return t
+
+
+def _child(quick: bool) -> dict:
+    figures = _frames_child(40 if quick else 200)
+    starts = [_start_once() for _ in range(1 if quick else 3)]
+    figures["gui_start_s"] = statistics.median(starts)
+    return figures
+
+
+def _have_display() -> bool:
+    return bool(os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY"))
+
+
+def run(quick: bool = False):
+    """``(figures, goals)`` for benchmarks/run.py; measures in a child process (under xvfb-run without a display)."""
+    cmd = [sys.executable, str(Path(__file__).resolve()), "--child"] + (["--quick"] if quick else [])
+    if not _have_display():
+        if shutil.which("xvfb-run") is None:
+            raise RuntimeError("no display and no xvfb-run: install xvfb (see tools/sysdeps.sh)")
+        cmd = XVFB + cmd
+    env = dict(os.environ)
+    env.pop("QT_QPA_PLATFORM", None)
+    r = subprocess.run(cmd, capture_output=True, text=True, cwd=ROOT, env=env, timeout=600)
+    if r.returncode != 0:
+        raise RuntimeError(f"GUI benchmark child failed ({r.returncode}): {r.stderr.strip()[-800:]}")
+    line = [x for x in r.stdout.splitlines() if x.startswith("{")][-1]
+    return json.loads(line), dict(GOALS)
+
+
+def main(argv=None) -> int:
+    argv = sys.argv[1:] if argv is None else argv
+    quick = "--quick" in argv
+    if "--child" in argv:
+        print(json.dumps(_child(quick)), flush=True)
+        return 0
+    figures, goals = run(quick=quick)
+    if "--json" in argv:
+        print(json.dumps({**figures, "goals": goals}, indent=2))
+    else:
+        for k, v in figures.items():
+            print(f"{k:18} {v:>10.3f}   {goals[k]}" if isinstance(v, float) else f"{k:18} {v!s:>10}   {goals[k]}")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,31 @@
+"""The floor grid at z = 0 with its spacing written beside it."""
+
+from __future__ import annotations
+
+import pyqtgraph.opengl as gl
+from PySide6.QtGui import QColor, QFont
+
+from poser.ui import palette
+from poser.ui.gl_base import ItemGroup
+from poser.ui.gl_label import GLLabel
+
+
+class GLFloor(ItemGroup):
+    """A square grid on the world floor; ``setData(spacing, half_size, unit)``."""
+
+    def __init__(self):
+        super().__init__()
+        self._grid = self._own(gl.GLGridItem(color=QColor(palette.GRID), antialias=False))
+        f = QFont("DejaVu Sans", 10)
+        self._label = self._own(GLLabel(pos=(0.0, 0.0, 0.0), text="", color=QColor(palette.MUTED), font=f))
+        self.spacing = 1.0
+        self.text = ""
+
+    def setData(self, spacing: float, half_size: float, unit: str) -> None:
+        cells = max(2, int(round(half_size / spacing)))
+        size = 2 * cells * spacing
+        self._grid.setSize(size, size, 1)
+        self._grid.setSpacing(spacing, spacing, 1)
+        self.spacing = spacing
+        self.text = f"grid {spacing:g} {unit}"
+        self._label.setData(pos=(0.55 * cells * spacing, -0.55 * cells * spacing, 0.0), text=self.text)

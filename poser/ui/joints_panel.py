@@ -1,0 +1,302 @@
+"""The joint panel: one row per joint (name, type, slider, value box, limits, margin bar, words)."""
+
+from __future__ import annotations
+
+import numpy as np
+from PySide6.QtCore import QEvent, QRectF, QSignalBlocker, Qt
+from PySide6.QtGui import QColor, QPainter, QPen
+from PySide6.QtWidgets import (
+    QAbstractSpinBox,
+    QDoubleSpinBox,
+    QGridLayout,
+    QHBoxLayout,
+    QLabel,
+    QPushButton,
+    QSizePolicy,
+    QSlider,
+    QVBoxLayout,
+    QWidget,
+)
+
+from poser.ui import palette
+from poser.ui.state import PoseState
+from poser.ui.words import LimitState, fmt
+
+SLIDER_STEPS = 2000
+KIND_WORDS = {"revolute": "revolute (turns)", "prismatic": "prismatic (slides)"}
+
+
+class MarginBar(QWidget):
+    """The joint's range as a bar: amber ends within the margin, red end marks, a marker at the value."""
+
+    def __init__(self, parent=None):
+        super().__init__(parent)
+        self.setMinimumSize(80, 14)
+        self.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Fixed)
+        self.position = 0.5  # of the range, 0 = lower limit
+        self.margin = 0.05
+        self.level = "ok"
+
+    def set_value(self, position: float, margin: float, state: LimitState) -> None:
+        self.position, self.margin, self.level = float(position), float(margin), state.level
+        self.setToolTip(state.words)
+        self.setAccessibleDescription(state.words)
+        self.update()
+
+    def paintEvent(self, ev):
+        p = QPainter(self)
+        p.setRenderHint(QPainter.RenderHint.Antialiasing)
+        w, h = self.width() - 8, self.height()
+        x0, y0, bh = 4.0, h / 2 - 4, 8.0
+        p.setPen(Qt.PenStyle.NoPen)
+        p.setBrush(QColor("#DDDAD0"))
+        p.drawRect(QRectF(x0, y0, w, bh))
+        m = self.margin * w
+        p.setBrush(QColor(palette.NEAR))
+        p.drawRect(QRectF(x0, y0, m, bh))
+        p.drawRect(QRectF(x0 + w - m, y0, m, bh))
+        p.setBrush(QColor(palette.AT))
+        p.drawRect(QRectF(x0 - 3, y0 - 3, 3, bh + 6))
+        p.drawRect(QRectF(x0 + w, y0 - 3, 3, bh + 6))
+        x = x0 + min(max(self.position, 0.0), 1.0) * w
+        colour = QColor(palette.LEVEL_COLOURS[self.level] if self.level != "ok" else palette.TEXT)
+        p.setPen(QPen(colour, 3))
+        p.drawLine(int(x), 1, int(x), h - 1)
+        p.end()
+
+
+class JointRow:
+    """The widgets of one joint (kept together so tests and the panel can reach them)."""
+
+    def __init__(self, panel: JointPanel, i: int):
+        st = panel.state
+        chain = st.chain
+        self.i = i
+        unit = st.unit_of(i)
+        lo, hi = (float(v[i]) for v in st.limits_user)
+        self.lower, self.upper = lo, hi
+        self.name = QLabel(chain.names[i])
+        self.name.setMinimumWidth(80)
+        self.name.setStyleSheet("font-weight: bold")
+        self.kind = QLabel(KIND_WORDS[chain.kinds[i]])
+        self.kind.setStyleSheet(f"color: {palette.MUTED}; font-size: 8pt")
+        self.slider = QSlider(Qt.Orientation.Horizontal)
+        self.slider.setRange(0, SLIDER_STEPS)
+        self.slider.setMinimumWidth(100)
+        self.slider.setAccessibleName(f"{chain.names[i]} slider")
+        self.slider.setToolTip(f"{chain.names[i]}: drag over the range {fmt(lo)} … {fmt(hi)} {unit}")
+        self.spin = QDoubleSpinBox()
+        span = hi - lo
+        self.spin.setRange(lo - 0.5 * span, hi + 0.5 * span)
+        self.spin.setDecimals(4 if unit in ("rad", "m") else 2)
+        self.spin.setSuffix(f" {unit}")
+        self.spin.setKeyboardTracking(True)
+        self.spin.setAccelerated(True)
+        self.spin.setCorrectionMode(QAbstractSpinBox.CorrectionMode.CorrectToNearestValue)
+        self.spin.setAccessibleName(f"{chain.names[i]} value in {unit}")
+        self.spin.setMinimumWidth(95)
+        self.limits = QLabel(f"{fmt(lo)} … {fmt(hi)} {unit}")
+        self.limits.setToolTip("lower … upper limit")
+        self.bar = MarginBar()
+        self.words = QLabel("")
+        self.words.setMinimumWidth(150)
+        self.unit = unit
+        self.level = None
+
+    def slider_to_value(self, pos: int) -> float:
+        return self.lower + (self.upper - self.lower) * pos / SLIDER_STEPS
+
+    def value_to_slider(self, v: float) -> int:
+        return int(round((v - self.lower) / (self.upper - self.lower) * SLIDER_STEPS))
+
+    @property
+    def widgets(self):
+        return (self.name, self.kind, self.slider, self.spin, self.limits, self.bar, self.words)
+
+
+class JointPanel(QWidget):
+    """Observes joint values and limits; writes joint values. Arrow keys nudge the focused joint."""
+
+    def __init__(self, state: PoseState, parent=None):
+        super().__init__(parent)
+        self.state = state
+        self.rows: list[JointRow] = []
+        top = QHBoxLayout()
+        self.home_button = QPushButton("&Home")
+        self.home_button.setToolTip("every joint to its home value (Alt+H)")
+        self.home_button.clicked.connect(lambda: self.state.home(writer=self))
+        self.zero_button = QPushButton("&Zero")
+        self.zero_button.setToolTip("every joint to 0 (or its nearest limit) (Alt+Z)")
+        self.zero_button.clicked.connect(lambda: self.state.zero(writer=self))
+        top.addWidget(self.home_button)
+        top.addWidget(self.zero_button)
+        top.addSpacing(10)
+        self.margin_spin = QDoubleSpinBox()
+        self.margin_spin.setRange(0.0, 45.0)
+        self.margin_spin.setDecimals(1)
+        self.margin_spin.setSuffix(" %")
+        self.margin_spin.setAccessibleName("warning margin in percent of each joint's range")
+        self.margin_spin.setValue(100 * state.option("margin"))
+        self.margin_spin.setToolTip("a joint turns amber this close to a limit")
+        self.margin_spin.valueChanged.connect(lambda v: self.state.set_option("margin", v / 100.0, writer=self))
+        lab = QLabel("&Warn within (of range)")
+        lab.setBuddy(self.margin_spin)
+        top.addWidget(lab)
+        top.addWidget(self.margin_spin)
+        top.addSpacing(10)
+        self.step_spin = QDoubleSpinBox()  # revolute joints, arm angle unit
+        self.step_length_spin = QDoubleSpinBox()  # prismatic joints, arm length unit
+        for spin, key in ((self.step_spin, "step"), (self.step_length_spin, "step_length")):
+            spin.setRange(0.0001, 1000.0)
+            spin.setDecimals(3)
+            spin.setValue(state.option(key))
+            spin.valueChanged.connect(lambda v, k=key: self.state.set_option(k, v, writer=self))
+        self.step_spin.setAccessibleName("arrow-key step of revolute joints")
+        self.step_length_spin.setAccessibleName("arrow-key step of prismatic joints")
+        self.step_label = QLabel("Arrow-key &step (Shift: ten steps)")
+        self.step_label.setBuddy(self.step_spin)
+        top.addStretch(1)
+        top2 = QHBoxLayout()
+        top2.addWidget(self.step_label)
+        top2.addWidget(self.step_spin)
+        top2.addWidget(self.step_length_spin)
+        top2.addStretch(1)
+
+        self.grid_host = QWidget()
+        self.grid = QGridLayout(self.grid_host)
+        self.grid.setContentsMargins(4, 4, 4, 4)
+        self.grid.setHorizontalSpacing(8)
+        self.grid.setVerticalSpacing(1)
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(4, 4, 4, 4)
+        lay.addLayout(top)
+        lay.addLayout(top2)
+        lay.addWidget(self.grid_host, 1)
+        self._source = None
+        state.changed.connect(self._on_state)
+        self._build()
+
+    # -- building -------------------------------------------------------------------
+    def _build(self) -> None:
+        for row in self.rows:
+            for w in row.widgets:
+                w.setParent(None)
+                w.deleteLater()
+        self.rows = []
+        # two lines per joint: name | slider | value | limits, then type | margin bar | state in words
+        for i in range(self.state.chain.n):
+            row = JointRow(self, i)
+            r = 2 * i
+            self.grid.addWidget(row.name, r, 0)
+            self.grid.addWidget(row.slider, r, 1)
+            self.grid.addWidget(row.spin, r, 2)
+            self.grid.addWidget(row.limits, r, 3)
+            self.grid.addWidget(row.kind, r + 1, 0)
+            self.grid.addWidget(row.bar, r + 1, 1)
+            self.grid.addWidget(row.words, r + 1, 2, 1, 2)
+            row.slider.valueChanged.connect(lambda pos, r=row: self._from_slider(r, pos))
+            row.spin.valueChanged.connect(lambda v, r=row: self._from_spin(r, v))
+            row.slider.installEventFilter(self)
+            row.spin.installEventFilter(self)
+            self.rows.append(row)
+        self.grid.setColumnStretch(1, 1)
+        self.grid.setRowStretch(2 * self.state.chain.n, 1)
+        prev = self.step_length_spin
+        for row in self.rows:
+            QWidget.setTabOrder(prev, row.slider)
+            QWidget.setTabOrder(row.slider, row.spin)
+            prev = row.spin
+        u = self.state.chain.units
+        kinds = set(self.state.chain.kinds)
+        self.step_spin.setSuffix(f" {u.angle}")
+        self.step_length_spin.setSuffix(f" {u.length}")
+        self.step_spin.setVisible("revolute" in kinds)
+        self.step_length_spin.setVisible("prismatic" in kinds)
+        if "revolute" not in kinds:
+            self.step_label.setBuddy(self.step_length_spin)
+        self._sync_options()
+        self._refresh()
+
+    # -- writing ----------------------------------------------------------------------
+    def _from_slider(self, row: JointRow, pos: int) -> None:
+        self._source = row.slider
+        try:
+            self.state.set_joint_user(row.i, row.slider_to_value(pos), writer=self)
+        finally:
+            self._source = None
+
+    def _from_spin(self, row: JointRow, v: float) -> None:
+        self._source = row.spin
+        try:
+            self.state.set_joint_user(row.i, v, writer=self)
+        finally:
+            self._source = None
+
+    def nudge(self, i: int, steps: float) -> None:
+        """Move joint ``i`` by ``steps`` times the arrow-key step (arm units)."""
+        q = self.state.q_user
+        self.state.set_joint_user(i, float(q[i]) + steps * self.state.step_of(i), writer=self)
+
+    def eventFilter(self, obj, ev):
+        if ev.type() == QEvent.Type.KeyPress:
+            for row in self.rows:
+                if obj is row.slider or obj is row.spin:
+                    key = ev.key()
+                    big = 10.0 if ev.modifiers() & Qt.KeyboardModifier.ShiftModifier else 1.0
+                    ups = (Qt.Key.Key_Up, Qt.Key.Key_Right) if obj is row.slider else (Qt.Key.Key_Up,)
+                    downs = (Qt.Key.Key_Down, Qt.Key.Key_Left) if obj is row.slider else (Qt.Key.Key_Down,)
+                    if key in ups:
+                        self.nudge(row.i, big)
+                        return True
+                    if key in downs:
+                        self.nudge(row.i, -big)
+                        return True
+                    if key == Qt.Key.Key_PageUp:
+                        self.nudge(row.i, 10.0)
+                        return True
+                    if key == Qt.Key.Key_PageDown:
+                        self.nudge(row.i, -10.0)
+                        return True
+        return super().eventFilter(obj, ev)
+
+    # -- reading ----------------------------------------------------------------------
+    def _refresh(self) -> None:
+        st = self.state
+        q = st.q_user
+        states = st.limit_states()
+        margin = float(st.option("margin"))
+        for row, v, ls in zip(self.rows, q, states):
+            if self._source is not row.slider:
+                with QSignalBlocker(row.slider):
+                    row.slider.setValue(row.value_to_slider(float(np.clip(v, row.lower, row.upper))))
+            if self._source is not row.spin:
+                with QSignalBlocker(row.spin):
+                    row.spin.setValue(float(v))
+            pos = (float(v) - row.lower) / (row.upper - row.lower)
+            row.bar.set_value(pos, margin, ls)
+            row.words.setText(ls.words)
+            row.words.setAccessibleName(f"{st.chain.names[row.i]}: {ls.words}")
+            if row.level != ls.level:  # restyle only on a change of level (style sheets are slow)
+                colour = palette.LEVEL_COLOURS[ls.level]
+                weight = "bold" if ls.level != "ok" else "normal"
+                row.words.setStyleSheet(f"color: {colour}; font-weight: {weight}")
+                row.spin.setStyleSheet(
+                    "" if ls.level == "ok" else f"QDoubleSpinBox {{ border: 2px solid {colour}; }}"
+                )
+                row.level = ls.level
+
+    def _on_state(self, field: str) -> None:
+        if field == "arm":
+            self._build()
+        elif field == "q":
+            self._refresh()
+        elif field == "options":
+            self._sync_options()
+            self._refresh()
+
+    def _sync_options(self) -> None:
+        with QSignalBlocker(self.margin_spin):
+            self.margin_spin.setValue(100 * float(self.state.option("margin")))
+        for spin, key in ((self.step_spin, "step"), (self.step_length_spin, "step_length")):
+            with QSignalBlocker(spin):
+                spin.setValue(float(self.state.option(key)))
