@@ -1,0 +1,733 @@
+"""Inverse kinematics: every branch that puts the tool at a target, with its limits and its name.
+
+    result = solve(chain, xyz, R=None, near=None, time_budget=0.05)
+
+``xyz`` is the world position of the tool point (arm length unit), ``R`` the
+world orientation of the tool coordinate system (3 x 3) or None for a
+position-only solve, ``near`` the current joint values (internal units: rad
+for revolute, the length unit for prismatic joints).  The result
+(:class:`IKResult`) lists every distinct branch (:class:`Branch`): joint
+values, limit verdict with the violations, position and orientation error,
+manipulability, a plain-language label and the distance from ``near``.
+
+How it solves
+-------------
+The chain is first turned into joint lines at q = 0 in world coordinates
+(base and tool removed into them); :func:`poser.core.ik._closed.recognise`
+then looks for a structure with a closed form — planar 2R / 3R, the
+three-axis elbow arm (with or without shoulder offset), the two
+two-revolute-one-prismatic types, the four-axis table arm, and six-axis arms
+whose last three axes meet (Pieper's condition) on one of those positioning
+stages.  Every other chain, and every target a closed form cannot settle,
+goes to the damped least-squares solver (:mod:`poser.core.ik._numeric`),
+run from seeds spread over the limits plus the current pose, all at once.
+
+Revolute joints whose range exceeds a full turn give each extra turn that
+fits in the range as a branch of its own.
+
+When no branch reaches the target within limits, the result carries the
+closest approach within limits (:attr:`IKResult.closest`) and, when the
+position itself is out of reach, the nearest reachable tool position.
+
+:func:`solve_batch` is the vectorised closed form for many targets at once
+(joint values and verdicts only, no labels).
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from poser.core.errors import PoserValueError
+from poser.core.ik import _closed, _labels, _numeric, _scalar
+from poser.core.ik._geometry import TWO_PI, chain_lines, cumulative, pose_and_jacobian, wrap
+from poser.core.transforms import rotation_error
+
+__all__ = ["solve", "solve_batch", "IKResult", "Branch", "Violation", "BatchResult", "structure_of"]
+
+
+@dataclass(frozen=True)
+class Violation:
+    """A joint beyond one of its limits (internal units; ``excess`` > 0)."""
+
+    joint: int
+    name: str
+    side: str  # "lower" | "upper"
+    limit: float
+    value: float
+    excess: float
+
+
+@dataclass(frozen=True)
+class Branch:
+    """One inverse-kinematics solution.
+
+    Attributes
+    ----------
+    q : ndarray, shape (n,)
+        Joint values, internal units.
+    label : str
+        Plain words, e.g. "shoulder front · elbow up · wrist not flipped".
+    within_limits : bool
+    violations : tuple of Violation
+    position_error : float
+        Distance from the target, arm length unit.
+    orientation_error : float
+        Angle from the target orientation, rad (0.0 for position-only).
+    manipulability : float
+        :func:`poser.core.jacobian.manipulability` at ``q``.
+    distance : float or None
+        Euclidean joint-space distance from ``near`` (internal units); None without ``near``.
+    reaches : bool
+        Both errors within tolerance.
+    configuration : str
+        The label without extra-turn words: branches that differ only by
+        full turns of a joint share it.
+    turns : tuple of int
+        Extra full turns per joint relative to the value in (-180°, 180°].
+    """
+
+    q: np.ndarray
+    label: str
+    within_limits: bool
+    violations: tuple
+    position_error: float
+    orientation_error: float
+    manipulability: float
+    distance: float | None
+    reaches: bool
+    configuration: str = ""
+    turns: tuple = field(default=())
+
+
+@dataclass(frozen=True)
+class IKResult:
+    """Everything :func:`solve` found.
+
+    Attributes
+    ----------
+    solver : str
+        ``"closed-form: <structure>"`` or ``"numerical"``.
+    branches : tuple of Branch
+        Reaching and within limits first, then reaching but beyond a limit,
+        then the rest; within each group by distance from ``near`` (or in
+        the solver's stable order).
+    reachable : bool
+        Some branch reaches within tolerance and within limits.
+    closest : Branch or None
+        Closest approach within limits when not reachable.
+    nearest_point : ndarray (3,) or None
+        Nearest reachable tool position when the position is out of reach.
+    message : str
+        One or two plain sentences.
+    position_only : bool
+    redundant : bool
+        Solutions form families; the branches are representatives.
+    tolerance : tuple of float
+        Position (length unit) and orientation (rad) tolerances used.
+    """
+
+    solver: str
+    branches: tuple
+    reachable: bool
+    closest: Branch | None
+    nearest_point: np.ndarray | None
+    message: str
+    position_only: bool
+    redundant: bool
+    tolerance: tuple = (0.0, 0.0)
+
+
+# -- helpers -------------------------------------------------------------------------------------
+
+
+def structure_of(chain):
+    """The closed-form structure recognised for ``chain`` (see :func:`_closed.recognise`), or None."""
+    return _closed.recognise(chain)
+
+
+def _ranks(chain):
+    """Generic rank of the position rows and of the whole Jacobian (cached)."""
+    r = chain.__dict__.get("_ik_ranks")
+    if r is None:
+        L = chain_lines(chain)
+        rng = np.random.default_rng(3)
+        q = rng.uniform(-1.0, 1.0, size=(4, chain.n)) * np.where(L.revolute, 2.5, 0.3 * L.scale)
+        _, _, J = pose_and_jacobian(L, q)
+        J = J.copy()
+        J[:, :3] /= L.scale
+        rp = int(max(np.linalg.matrix_rank(Jk[:3], tol=1e-9) for Jk in J))
+        rf = int(max(np.linalg.matrix_rank(Jk, tol=1e-9) for Jk in J))
+        r = (rp, rf)
+        chain._ik_ranks = r
+    return r
+
+
+def _check_inputs(chain, xyz, R, near):
+    xyz = np.asarray(xyz, dtype=float)
+    if xyz.shape != (3,):
+        raise PoserValueError(f"xyz must have shape (3,), got shape {xyz.shape}")
+    if not np.all(np.isfinite(xyz)):
+        raise PoserValueError(f"xyz must be finite, got {xyz.tolist()}")
+    if R is not None:
+        R = np.asarray(R, dtype=float)
+        if R.shape != (3, 3):
+            raise PoserValueError(f"R must have shape (3, 3) or be None, got shape {R.shape}")
+        if not np.all(np.isfinite(R)):
+            raise PoserValueError("R must be finite")
+        err = float(np.abs(R.T @ R - np.eye(3)).max())
+        if err > 1e-6 or np.linalg.det(R) < 0:
+            raise PoserValueError("R must be a rotation matrix (orthonormal, determinant +1)")
+        if err > 1e-13:  # tidy a slightly drifted rotation
+            U, _, Vt = np.linalg.svd(R)
+            R = U @ Vt
+    if near is not None:
+        near = np.asarray(near, dtype=float)
+        if near.shape != (chain.n,):
+            raise PoserValueError(f"near must have shape ({chain.n},), got shape {near.shape}")
+        if not np.all(np.isfinite(near)):
+            raise PoserValueError(f"near must be finite, got {near.tolist()}")
+    return xyz, R, near
+
+
+def _fmt_len(chain, v):
+    return f"{v:.4g} {chain.units.length}"
+
+
+def _fmt_angle(chain, rad):
+    v = float(chain.units.angle_out(rad))
+    return f"{v:.0f}°" if chain.units.angle == "deg" else f"{v:.2f} rad"
+
+
+def _fmt_joint(chain, i, v):
+    if chain.revolute[i]:
+        a = float(chain.units.angle_out(v))
+        return f"{a:.1f}°" if chain.units.angle == "deg" else f"{a:.3f} rad"
+    return f"{v:.1f} {chain.units.length}"
+
+
+# -- extra turns and limits ----------------------------------------------------------------------
+
+
+def _expand_turns(chain, Q, ref, hit, max_per_branch=8):
+    """Place revolute values in their ranges; a range over a full turn yields every turn that fits.
+
+    A joint whose range is at most one turn takes the value nearest the
+    middle of its range (inside it when any turn fits; otherwise the one
+    with the smallest excess).  A joint with a wider range gives, for rows
+    with ``hit`` (they reach the target), every turn that fits as a
+    separate row; other rows keep the turn nearest ``ref``.  Returns a list
+    of (q, turns, source index); turns count from the value in (-π, π].
+    """
+    lo, hi, rev = chain.lower, chain.upper, chain.revolute
+    eps = 1e-9
+    if len(Q) == 0:
+        return []
+    V = np.where(rev, wrap(Q), Q)
+    mid = 0.5 * (lo + hi)
+    k0 = np.where(rev, np.round((mid - V) / TWO_PI), 0.0)
+    base = V + k0 * TWO_PI
+    wide = [i for i in range(chain.n) if rev[i] and hi[i] - lo[i] > TWO_PI + eps]
+    if not wide:
+        return [(base[b].copy(), (0,) * chain.n, b) for b in range(len(Q))]
+    out = []
+    Vl = V.tolist()
+    lo_l, hi_l, ref_l = lo.tolist(), hi.tolist(), np.asarray(ref, float).tolist()
+    for b in range(len(Q)):
+        options = []
+        for i in wide:
+            v = Vl[b][i]
+            ks = range(math.floor((lo_l[i] - v) / TWO_PI), math.ceil((hi_l[i] - v) / TWO_PI) + 1)
+            inside = [k for k in ks if lo_l[i] - eps <= v + k * TWO_PI <= hi_l[i] + eps]
+            if not hit[b]:
+                inside = [min(inside, key=lambda k: (k != 0, abs(v + k * TWO_PI - ref_l[i])))]
+            options.append(inside)
+        combos = [()]
+        for opts in options:
+            combos = [c + (k,) for c in combos for k in opts][:max_per_branch]
+        for c in combos:
+            q = base[b].copy()
+            turns = [0] * chain.n
+            for i, k in zip(wide, c):
+                q[i] = Vl[b][i] + k * TWO_PI
+                turns[i] = k
+            out.append((q, tuple(turns), b))
+    return out
+
+
+def _violations(chain, q):
+    """Violation tuple of one configuration ``q`` (n,)."""
+    return _violations_many(chain, np.asarray(q, float)[None])[0]
+
+
+def _violations_mask(chain, Q):
+    """True for each row of ``Q`` (K, n) beyond a limit (wrapped revolute values placed in range first)."""
+    lo, hi = chain.lower, chain.upper
+    mid = 0.5 * (lo + hi)
+    Qp = np.where(chain.revolute, wrap(Q - mid) + mid, Q)
+    tol = 1e-9 * np.where(chain.revolute, 1.0, np.maximum(1.0, hi - lo))
+    return np.any((Qp < lo - tol) | (Qp > hi + tol), axis=1)
+
+
+def _violations_many(chain, Q):
+    """Violation tuples of configurations ``Q`` (K, n); limits are met within 1e-9 (rad or 1e-9 of the stroke)."""
+    lo, hi = chain.lower, chain.upper
+    tol = 1e-9 * np.where(chain.revolute, 1.0, np.maximum(1.0, hi - lo))
+    below = Q < lo - tol
+    above = Q > hi + tol
+    out = []
+    bad = (below | above).any(axis=1)
+    names = chain.names
+    for k in range(len(Q)):
+        if not bad[k]:
+            out.append(())
+            continue
+        vs = []
+        for i in np.flatnonzero(below[k] | above[k]):
+            v = float(Q[k, i])
+            if below[k, i]:
+                vs.append(Violation(int(i), names[i], "lower", float(lo[i]), v, float(lo[i] - v)))
+            else:
+                vs.append(Violation(int(i), names[i], "upper", float(hi[i]), v, float(v - hi[i])))
+        out.append(tuple(vs))
+    return out
+
+
+def _turn_words(chain, turns):
+    parts = []
+    names = chain.names
+    for i, k in enumerate(turns):
+        if k:
+            parts.append(f"{names[i]} {k:+d} turn" + ("s" if abs(k) > 1 else ""))
+    return parts
+
+
+def _metrics(chain, Q, xyz, R):
+    """Position error, orientation error, manipulability (K,) and the cumulative motions of Q (K, n)."""
+    L = chain_lines(chain)
+    cum = cumulative(L, Q)
+    p, Rq, J = pose_and_jacobian(L, Q, cum)
+    perr = np.sqrt(np.sum((p - xyz) ** 2, axis=1))
+    if R is None:
+        oerr = np.zeros(len(Q))
+    else:
+        oerr = rotation_error(Rq, R[None])
+    man = np.prod(np.linalg.svd(J, compute_uv=False), axis=-1)
+    man = np.where(np.isfinite(man), man, 0.0)
+    return perr, oerr, man, cum
+
+
+def _branches(chain, expanded, configs, metrics, near, tol, extra_words=None):
+    """Branch objects for the expanded rows (q, turns, source) of base configurations with ``metrics``."""
+    out = []
+    if not expanded:
+        return out
+    perr, oerr, man = metrics[:3]
+    Qe = np.array([e[0] for e in expanded])
+    viol = _violations_many(chain, Qe)
+    dist = None if near is None else np.sqrt(np.sum((Qe - near) ** 2, axis=1)).tolist()
+    reach = ((perr <= tol[0]) & (oerr <= tol[1])).tolist()
+    perr, oerr, man = perr.tolist(), oerr.tolist(), man.tolist()
+    for j, (q, turns, k) in enumerate(expanded):
+        v = viol[j]
+        cfg = configs[k]
+        if extra_words is not None and extra_words[k]:
+            cfg = f"{cfg} · {extra_words[k]}" if cfg else extra_words[k]
+        words = [cfg] if cfg else []
+        if any(turns):
+            words += _turn_words(chain, turns)
+        q.setflags(write=False)
+        out.append(
+            Branch(
+                q=q,
+                label=" · ".join(words) or "single configuration",
+                within_limits=not v,
+                violations=v,
+                position_error=perr[k],
+                orientation_error=oerr[k],
+                manipulability=man[k],
+                distance=None if dist is None else dist[j],
+                reaches=reach[k],
+                configuration=cfg or "single configuration",
+                turns=tuple(turns),
+            )
+        )
+    return out
+
+
+def _dedupe(chain, Q, tol):
+    """Indices of rows of Q that differ from every earlier kept row (wrapped angles, scaled lengths)."""
+    L = chain_lines(chain)
+    if len(Q) < 2:
+        return list(range(len(Q)))
+    d = Q[:, None, :] - Q[None, :, :]
+    d = np.where(L.revolute, wrap(d), d / L.scale)
+    close = np.max(np.abs(d), axis=-1) < tol
+    keep = []
+    for k in range(len(Q)):
+        if not any(close[k, j] for j in keep):
+            keep.append(k)
+    return keep
+
+
+def _spread(chain, Q, score, count):
+    """Pick ``count`` rows of Q far apart in joint space, starting from the best score (lowest)."""
+    L = chain_lines(chain)
+    order = list(np.argsort(score, kind="stable"))
+    chosen = [order[0]]
+    scale = np.where(L.revolute, 1.0, 1.0 / L.scale)
+    while len(chosen) < min(count, len(Q)):
+        D = np.full(len(Q), np.inf)
+        for c in chosen:
+            d = Q - Q[c]
+            d = np.where(L.revolute, wrap(d), d) * scale
+            D = np.minimum(D, np.linalg.norm(d, axis=1))
+        D[chosen] = -1.0
+        # favour better-scoring rows a little among equally spread ones
+        nxt = int(np.argmax(D - 1e-3 * np.asarray(score)))
+        if D[nxt] <= 1e-3:
+            break
+        chosen.append(nxt)
+    return chosen
+
+
+# -- the solver ----------------------------------------------------------------------------------
+
+
+def solve(chain, xyz, R=None, near=None, *, time_budget=0.05, **options) -> IKResult:
+    """Every inverse-kinematics branch for a target.
+
+    Parameters
+    ----------
+    chain : poser.core.chain.Chain
+    xyz : array_like, shape (3,)
+        World position of the tool point, arm length unit.
+    R : array_like, shape (3, 3), optional
+        World orientation of the tool coordinate system; None for position only.
+    near : array_like, shape (n,), optional
+        Current joint values, internal units; branches are ranked by distance from them.
+    time_budget : float
+        Seconds the numerical solver may spend (the closed forms take far less).
+    **options
+        ``method`` ("auto", "closed" or "numerical"; "closed" falls back to
+        numerical when there is no closed form), ``position_tolerance``
+        (length unit, default 1e-6 of the arm's size), ``orientation_tolerance``
+        (rad, default 1e-6), ``seeds`` (numerical starts), ``max_branches``
+        (representatives of a redundant family, default 8),
+        ``closest`` (compute the closest approach when not reachable, default True).
+
+    Returns
+    -------
+    IKResult
+    """
+    xyz, R, near = _check_inputs(chain, xyz, R, near)
+    known = {"method", "position_tolerance", "orientation_tolerance", "seeds", "max_branches", "closest"}
+    unknown = set(options) - known
+    if unknown:
+        raise PoserValueError(f"options must be among {sorted(known)}, got {sorted(unknown)}")
+    method = options.get("method", "auto")
+    if method not in ("auto", "closed", "numerical"):
+        raise PoserValueError(f"method must be 'auto', 'closed' or 'numerical', got {method!r}")
+    L = chain_lines(chain)
+    tol = (
+        float(options.get("position_tolerance", 1e-6 * L.scale)),
+        float(options.get("orientation_tolerance", 1e-6)),
+    )
+    deadline = time.perf_counter() + float(time_budget)
+    try:
+        return _solve(chain, xyz, R, near, tol, deadline, method, options)
+    except Exception as exc:  # the window calls this live: report, never crash
+        return IKResult(
+            solver="none",
+            branches=(),
+            reachable=False,
+            closest=None,
+            nearest_point=None,
+            message=f"The solver failed on this target ({type(exc).__name__}: {exc}).",
+            position_only=R is None,
+            redundant=False,
+            tolerance=tol,
+        )
+
+
+def _solve(chain, xyz, R, near, tol, deadline, method, options):
+    L = chain_lines(chain)
+    n = chain.n
+    ref = near if near is not None else np.array(chain.home, float)
+    position_only = R is None
+    rp, rf = _ranks(chain)
+    redundant = n > (rp if position_only else rf)
+    st = None if method == "numerical" else _closed.recognise(chain)
+    max_branches = int(options.get("max_branches", 8))
+    P = xyz[None]
+    fmt_angle = lambda a: _fmt_angle(chain, a)  # noqa: E731
+
+    extra = None
+    Q = None
+    solver = "numerical"
+    if st is not None:
+        solver = f"closed-form: {st.name}"
+        if not position_only or st.kind in ("planar2", "elbow", "rrp_spherical", "rrp_cylindrical"):
+            Q = _closed_one(chain, st, xyz, R, ref)
+        elif st.kind == "planar3":
+            # position only: a one-parameter family over the tool angle
+            phi_ref = _closed.tool_angle(L, st.axis, pose_and_jacobian(L, ref[None])[1])[0]
+            phis = phi_ref + np.arange(8) * (TWO_PI / 8)
+            Qf, ex = _closed.solve_closed(chain, st, np.repeat(P, 8, 0), None, ref, phi=phis)
+            Q = Qf.reshape(-1, n)
+            extra = [f"tool turned {fmt_angle(wrap(ph))}" for ph in np.repeat(phis, Qf.shape[1])]
+        else:
+            # position only on an arm with a wrist: keep the current tool orientation
+            Q = _closed_one(chain, st, xyz, pose_and_jacobian(L, ref[None])[1][0], ref)
+    numeric = Q is None
+    if Q is not None and position_only and st.kind in ("pieper6", "table4"):
+        # the current orientation may not fit the target, or only beyond the limits: search the family too
+        p = pose_and_jacobian(L, Q)[0]
+        fits = (np.linalg.norm(p - xyz, axis=1) <= tol[0]) & ~_violations_mask(chain, Q)
+        if not fits.any():
+            numeric = True
+            solver = "numerical"
+    if numeric:
+        K = int(options.get("seeds", 96 if redundant else 64))
+        S = np.vstack([ref[None], np.asarray(chain.home, float)[None], _numeric.seeds(chain, K)])
+        Qn, pe, oe, conv = _numeric.lm(L, xyz, R, S, lower=chain.lower, upper=chain.upper, tol=tol, deadline=deadline)
+        Qn = Qn[conv]
+        Q = Qn if Q is None else np.vstack([Q, Qn])
+
+    # distinct base configurations, then their extra turns
+    keep = _dedupe(chain, Q, 1e-2 if numeric and redundant else (1e-5 if numeric else 1e-7))
+    Q = Q[keep]
+    if extra is not None:
+        extra = [extra[k] for k in keep]
+    if numeric and redundant and len(Q) > max_branches:
+        # a family: representatives spread over it, reaching and within limits and near the current pose first
+        p = pose_and_jacobian(L, Q)[0]
+        miss = np.linalg.norm(p - xyz, axis=1) > tol[0]
+        dist = np.linalg.norm(np.where(L.revolute, wrap(Q - ref), (Q - ref) / L.scale), axis=1)
+        pick = _spread(chain, Q, dist + 100.0 * _violations_mask(chain, Q) + 1000.0 * miss, max_branches)
+        Q = Q[pick]
+    if extra is not None:
+        p, _, _ = pose_and_jacobian(L, Q)
+        ok = np.linalg.norm(p - xyz, axis=1) <= tol[0]
+        if ok.any():
+            idx = np.flatnonzero(ok)
+            Q = Q[idx]
+            extra = [extra[k] for k in idx]
+    if len(Q):
+        metrics = _metrics(chain, Q, xyz, R)
+        hit = (metrics[0] <= tol[0]) & (metrics[1] <= tol[1])
+        configs = _labels.describe(chain, Q, fmt_angle, metrics[3])
+    else:
+        metrics, hit, configs = None, np.zeros(0, bool), []
+    uniq = _branches(chain, _expand_turns(chain, Q, ref, hit), configs, metrics, near, tol, extra)
+    keys = [
+        (
+            not (b.reaches and b.within_limits),
+            not b.reaches,
+            b.distance if b.distance is not None else 0.0,
+            sum(map(abs, b.turns)),
+            i,
+        )
+        for i, b in enumerate(uniq)
+    ]
+    branches = tuple(uniq[k[-1]] for k in sorted(keys))
+    reachable = any(b.reaches and b.within_limits for b in branches)
+
+    closest = None
+    nearest_point = None
+    if not reachable and options.get("closest", True):
+        closest, nearest_point = _closest(chain, xyz, R, ref, near, Q, tol, deadline, fmt_angle)
+    message = _message(chain, branches, reachable, closest, nearest_point, xyz, redundant, position_only, near, tol)
+    return IKResult(
+        solver=solver,
+        branches=branches,
+        reachable=reachable,
+        closest=closest,
+        nearest_point=nearest_point,
+        message=message,
+        position_only=position_only,
+        redundant=bool(redundant),
+        tolerance=tol,
+    )
+
+
+def _closed_one(chain, st, xyz, R, ref):
+    """Closed-form candidates (B, n) for one target: the scalar version where there is one."""
+    out = _scalar.solve_single(chain, st, xyz, R, ref)
+    if out is not None:
+        return np.array([q for q, _ in out], dtype=float).reshape(-1, chain.n)
+    Q, _ = _closed.solve_closed(chain, st, xyz[None], None if R is None else R[None], ref)
+    return Q[0]
+
+
+def _closest(chain, xyz, R, ref, near, Q, tol, deadline, fmt_angle):
+    """Closest approach within limits, and the nearest reachable position when the position is out of reach."""
+    L = chain_lines(chain)
+    lo, hi = chain.lower, chain.upper
+    S = [np.clip(ref, lo, hi)[None], np.clip(np.asarray(chain.home, float), lo, hi)[None]]
+    if len(Q):
+        S.append(np.clip(np.where(L.revolute, wrap(Q), Q), lo, hi))
+    S.append(_numeric.seeds(chain, 24))
+    S = np.vstack(S)
+    late = max(deadline, time.perf_counter() + 0.02)
+    q, pe, oe, _ = _numeric.lm(L, xyz, R, S, lower=lo, upper=hi, tol=tol, deadline=late, clip=True, max_iter=60)
+    best = int(np.argmin((pe / L.scale) ** 2 + oe**2))
+    qb = q[best]
+    metrics = _metrics(chain, qb[None], xyz, R)
+    cfg = _labels.describe(chain, qb[None], fmt_angle, metrics[3])
+    br = _branches(chain, [(qb.copy(), (0,) * chain.n, 0)], cfg, metrics, near, tol)[0]
+    nearest = None
+    if pe[best] > tol[0]:
+        if R is None:
+            qp, pp = qb, pe[best]
+        else:
+            q2, pe2, _, _ = _numeric.lm(
+                L, xyz, None, q, lower=lo, upper=hi, tol=tol, deadline=late, clip=True, max_iter=60
+            )
+            b2 = int(np.argmin(pe2))
+            qp, pp = q2[b2], pe2[b2]
+        if pp > tol[0]:
+            nearest = pose_and_jacobian(L, qp[None])[0][0].copy()
+            nearest.setflags(write=False)
+    return br, nearest
+
+
+def _message(chain, branches, reachable, closest, nearest, xyz, redundant, position_only, near, tol):
+    reach = [b for b in branches if b.reaches]
+    fam = " (solutions form families; these are representatives)" if redundant and reach else ""
+    inside = [b for b in reach if b.within_limits]
+    blocked = [b for b in reach if not b.within_limits]
+
+    def blocking(b):
+        v = max(b.violations, key=lambda x: x.excess / (1.0 if chain.revolute[x.joint] else chain_lines(chain).scale))
+        side = "lower" if v.side == "lower" else "upper"
+        return (
+            f"'{b.label}' needs {v.name} at {_fmt_joint(chain, v.joint, v.value)} "
+            f"({side} limit {_fmt_joint(chain, v.joint, v.limit)})"
+        )
+
+    if reachable:
+        s = f"Reachable{fam}: {len(inside)} of {len(reach)} branches reach the target within limits"
+        s += f"; nearest to the current pose: {inside[0].label}." if near is not None else f", e.g. {inside[0].label}."
+        if blocked:
+            s += f" Blocked by limits: {blocking(blocked[0])}" + (
+                f" and {len(blocked) - 1} more." if len(blocked) > 1 else "."
+            )
+        return s
+    if closest is not None:
+        if closest.position_error <= tol[0] and not position_only:
+            miss = f"reaches the position but misses the orientation by {_fmt_angle(chain, closest.orientation_error)}"
+        else:
+            miss = f"misses by {_fmt_len(chain, closest.position_error)}"
+            if not position_only:
+                miss += f" and {_fmt_angle(chain, closest.orientation_error)}"
+    else:
+        miss = "was not computed"
+    if blocked:
+        return (
+            f"Not reachable within limits{fam}: every branch that reaches the target breaks a limit — "
+            f"{blocking(blocked[0])}. The closest approach within limits {miss}."
+        )
+    s = f"Out of reach{fam}: no branch reaches the target; the closest approach within limits {miss}."
+    if nearest is not None:
+        d = nearest - xyz
+        dist = float(np.linalg.norm(d))
+        u = d / dist if dist > 0 else d
+        s += (
+            f" The nearest reachable point is {_fmt_len(chain, dist)} away, towards "
+            f"({u[0]:.2f}, {u[1]:.2f}, {u[2]:.2f})."
+        )
+    elif closest is not None and not position_only and closest.position_error > tol[0]:
+        s += " The position itself can be reached; the orientation cannot be matched there."
+    return s
+
+
+# -- batch closed form ---------------------------------------------------------------------------
+
+
+BATCH_CHUNK = 2048
+"""Targets solved together in :func:`solve_batch` (small enough to stay in the CPU cache)."""
+
+
+@dataclass(frozen=True)
+class BatchResult:
+    """Closed-form branches for many targets (no labels, no extra turns).
+
+    Attributes
+    ----------
+    q : ndarray (N, B, n)
+        Joint values, internal units; revolute values moved into their
+        range by full turns where possible.
+    exact : ndarray (N, B) of bool
+        Every subproblem had an exact solution (the branch reaches the target).
+    within_limits : ndarray (N, B) of bool
+    """
+
+    q: np.ndarray
+    exact: np.ndarray
+    within_limits: np.ndarray
+
+
+def solve_batch(chain, xyz, R=None, near=None) -> BatchResult:
+    """Closed-form branches for many targets at once, vectorised over targets.
+
+    Parameters
+    ----------
+    chain : Chain
+        Must have a closed-form structure (see :func:`structure_of`).
+    xyz : array_like, shape (N, 3)
+    R : array_like, shape (N, 3, 3), optional
+        Needed for six-axis and table arms and for planar 3R.
+    near : array_like, shape (n,), optional
+        Values for joints the target leaves free.
+
+    Returns
+    -------
+    BatchResult
+    """
+    st = _closed.recognise(chain)
+    if st is None:
+        raise PoserValueError(f"chain {chain.name!r} has no closed-form structure; use solve() per target")
+    P = np.asarray(xyz, dtype=float)
+    if P.ndim != 2 or P.shape[1] != 3:
+        raise PoserValueError(f"xyz must have shape (N, 3), got shape {P.shape}")
+    needs_R = st.kind in ("pieper6", "table4", "planar3")
+    if R is None and needs_R:
+        raise PoserValueError(f"R must be given (shape (N, 3, 3)) for a {st.name}")
+    if R is not None:
+        R = np.asarray(R, dtype=float)
+        if R.shape != (P.shape[0], 3, 3):
+            raise PoserValueError(f"R must have shape ({P.shape[0]}, 3, 3), got shape {R.shape}")
+    ref = np.asarray(chain.home if near is None else near, dtype=float)
+    N = P.shape[0]
+    Rn = R if needs_R else None
+    rev = chain.revolute
+    lo, hi = chain.lower - 1e-9, chain.upper + 1e-9
+    mid = 0.5 * (chain.lower + chain.upper)
+
+    def place(Q):
+        # move each revolute value by whole turns towards the middle of its range
+        Q = np.where(rev, wrap(Q - mid) + mid, Q)
+        return Q, np.all((Q >= lo) & (Q <= hi), axis=-1)
+
+    single = _scalar.solve_single(chain, st, P[0], None if Rn is None else Rn[0], ref) if N == 1 else None
+    if single is not None:
+        Qs, inside = place(np.array([[q for q, _ in single]], dtype=float))
+        return BatchResult(Qs, np.array([[e for _, e in single]], dtype=bool), inside)
+    # cache-sized chunks, one after the other, each finished while in cache (threads do not pay here:
+    # the GIL is held between the many small numpy calls)
+    Qs = ex = inside = None
+    for s in range(0, max(N, 1), BATCH_CHUNK):
+        e = min(N, s + BATCH_CHUNK)
+        Qc, exc = _closed.solve_closed(chain, st, P[s:e], None if Rn is None else Rn[s:e], ref)
+        if Qs is None:
+            B = Qc.shape[1]
+            Qs = np.empty((N, B, chain.n))
+            ex = np.empty((N, B), dtype=bool)
+            inside = np.empty((N, B), dtype=bool)
+        Qs[s:e], inside[s:e] = place(Qc)
+        ex[s:e] = exc
+    return BatchResult(Qs, ex, inside)

@@ -1,0 +1,234 @@
+"""Plain-language names of arm configurations.
+
+The words come from where a few characteristic points of the arm are, not
+from joint numbers:
+
+* the *shoulder* is in front of or behind the base axis: is the wrist point
+  on the side of the base axis the arm faces (the side it reaches to with
+  every joint at zero)?
+* the *elbow* is up or down: is the elbow above or below the straight line
+  from shoulder to wrist, "above" meaning along the base axis; an arm whose
+  joints all have parallel axes is instead right- or left-handed (seen along
+  the axes from above) or, in a vertical plane, elbow up or down;
+* the *wrist* is flipped or not by the sign of the middle wrist joint; at
+  zero the wrist axes are aligned (a singularity);
+* a seven-axis arm's elbow turns about the shoulder–wrist line: the swivel
+  angle, measured from the plane through that line and the base axis;
+* a prismatic boom points towards the target or away from it.
+
+Each descriptor is computed only where the chain has the parts it needs.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from poser.core.ik._geometry import (
+    Lines,
+    chain_lines,
+    common_perpendicular,
+    cross,
+    cumulative,
+    meeting_point,
+    parallel,
+    wrap,
+)
+
+_UP = np.array([0.0, 0.0, 1.0])
+
+
+@dataclass
+class _Plan:
+    planar: bool
+    axis: np.ndarray | None
+    S: tuple | None  # (point at q = 0, link index)
+    E: tuple | None
+    W: tuple | None
+    elbow_joint: int | None
+    elbow_prismatic: bool
+    facing: np.ndarray | None
+    wrist_joint: int | None
+    swivel: bool
+
+
+def _perp(v, w):
+    return v - w * float(w @ v)
+
+
+def plan(chain) -> _Plan:
+    cached = chain.__dict__.get("_ik_label_plan")
+    if cached is not None:
+        return cached
+    L = chain_lines(chain)
+    n, o, w, rev = L.n, L.o, L.w, L.revolute
+    tiny = 1e-6 * L.scale
+    all_par = n >= 2 and all(parallel(w[0], w[i], 1e-9) for i in range(n) if rev[i])
+    if all_par and n >= 2 and rev[0] and rev[1]:
+        a = w[0]
+        if n == 2:
+            W = (L.p0.copy(), n)
+        else:
+            k = 2 if rev[2] else (3 if n > 3 and rev[3] else 2)
+            W = (o[k] + w[k] * float(w[k] @ (L.p0 - o[k])), k)
+        S = (o[0] + a * float(a @ (W[0] - o[0])), 0)
+        E = (o[1] + a * float(a @ (W[0] - o[1])), 1)
+        p = _Plan(True, a.copy(), S, E, W, 1, False, None, None, False)
+    else:
+        S = E = W = None
+        elbow = None
+        if n >= 3 and rev[0] and not parallel(w[0], w[1], 1e-9):
+            f1, f2, _ = common_perpendicular(o[0], w[0], o[1], w[1])
+            S = (f2, 1)
+            elbow = 3 if n >= 7 else 2
+            if elbow < n:
+                e1, e2, _ = common_perpendicular(o[elbow - 1], w[elbow - 1], o[elbow], w[elbow])
+                E = (e2 if rev[elbow] else o[elbow].copy(), elbow)
+            if n <= 4:
+                W = (L.p0.copy(), n)
+            else:
+                c = meeting_point(o[n - 3 :], w[n - 3 :], 1e-9 * L.scale) if rev[n - 3 :].all() else None
+                if c is not None:
+                    W = (c, n - 3)
+                else:
+                    # the foot on the first wrist axis: a point of the forearm, moved by the joints before it
+                    g1, _, _ = common_perpendicular(o[elbow + 1], w[elbow + 1], o[elbow + 2], w[elbow + 2])
+                    W = (g1, elbow + 1)
+        if S is not None and W is not None:
+            # shoulder and elbow points in the plane the wrist point moves in (a sideways offset moves it)
+            u = w[1]
+            S = (S[0] + u * float(u @ (W[0] - S[0])), S[1])
+            if E is not None and rev[elbow] and parallel(w[elbow], u, 1e-9):
+                E = (E[0] + u * float(u @ (W[0] - E[0])), E[1])
+        facing = None
+        if S is not None:
+            # the direction the arm faces: towards the wrist at q = 0, across the base axis and within
+            # the plane the upper arm swings in (a sideways shoulder offset does not count)
+            side = _perp(w[1], w[0])
+            side = side / np.linalg.norm(side)
+            for cand in (W[0] - o[0], S[0] - o[0], (E[0] - o[0]) if E else np.zeros(3)):
+                f = _perp(_perp(cand, w[0]), side)
+                if np.linalg.norm(f) > tiny:
+                    facing = f / np.linalg.norm(f)
+                    break
+            if facing is None:
+                facing = cross(w[0], w[1])
+                facing /= np.linalg.norm(facing)
+        wrist = None
+        if n >= 5 and rev[n - 3 :].all():
+            wrist = n - 2
+        p = _Plan(
+            False,
+            None,
+            S,
+            E,
+            W,
+            elbow,
+            bool(elbow is not None and elbow < n and not rev[elbow]),
+            facing,
+            wrist,
+            n >= 7 and S is not None and E is not None,
+        )
+    chain._ik_label_plan = p
+    return p
+
+
+def _place(R, t, pt):
+    x, k = pt
+    return np.einsum("kij,j->ki", R[:, k], x) + t[:, k]
+
+
+def describe(chain, Q, fmt_angle, cum=None) -> list[str]:
+    """Words for each configuration in ``Q`` (K, n) (without extra-turn words).
+
+    ``cum`` is ``cumulative(chain_lines(chain), Q)`` when already computed.
+    """
+    Q = np.atleast_2d(Q)
+    pl = plan(chain)
+    L: Lines = chain_lines(chain)
+    if pl.S is None or pl.W is None:
+        return [_fallback(chain, q) for q in Q]
+    R, t = cumulative(L, Q) if cum is None else cum
+    S, W = _place(R, t, pl.S), _place(R, t, pl.W)
+    E = _place(R, t, pl.E) if pl.E is not None else None
+    tiny = 1e-6 * L.scale
+    cols = []  # one list of words per descriptor, each K long
+    if pl.planar:
+        a = pl.axis
+        up = _perp(_UP, a)
+        d = W - S
+        v = E - S
+        cr = (cross(v, d) @ a).tolist()
+        nd = np.sqrt(np.sum(d * d, axis=1))
+        # distance of the elbow from the shoulder–wrist line
+        off = (np.abs(cross(v, d) @ a) / np.maximum(nd, 1e-300)).tolist()
+        out_ = (np.sum(v * (d - v), axis=1) >= 0).tolist()
+        if np.linalg.norm(up) > 0.5:
+            pe = v - d * (np.sum(v * d, axis=1) / np.maximum(nd * nd, 1e-300))[:, None]
+            side = (pe @ up > 0).tolist()
+            bent = ["elbow up" if x else "elbow down" for x in side]
+        else:
+            sg = float(np.sign(a @ _UP) or 1.0)
+            bent = ["right-handed arm" if c * sg > 0 else "left-handed arm" for c in cr]
+        cols.append(
+            [("arm stretched" if o_ else "arm folded") if f <= tiny else b for f, o_, b in zip(off, out_, bent)]
+        )
+        return [" · ".join(ws) for ws in zip(*cols)]
+    w0 = L.w[0]
+    o0 = L.o[0]
+    facing = np.einsum("kij,j->ki", R[:, 1], pl.facing)
+    rel = W - o0
+    off_axis = (np.linalg.norm(rel - np.outer(rel @ w0, w0), axis=1) <= tiny).tolist()
+    front = (np.sum(facing * rel, axis=1) >= 0).tolist()
+    cols.append(
+        [
+            "wrist over the base axis" if o_ else ("shoulder front" if f else "shoulder back")
+            for o_, f in zip(off_axis, front)
+        ]
+    )
+    if E is not None and not pl.elbow_prismatic:
+        d = W - S
+        v = E - S
+        dd = np.maximum(np.sum(d * d, axis=1), 1e-300)
+        pe = v - d * (np.sum(v * d, axis=1) / dd)[:, None]
+        npe = np.linalg.norm(pe, axis=1)
+        straight = (npe <= tiny).tolist()
+        out_ = (np.sum(v * (d - v), axis=1) >= 0).tolist()
+        if pl.swivel:
+            dh = d / np.sqrt(dd)[:, None]
+            ref = w0 - dh * (dh @ w0)[:, None]
+            weak = np.linalg.norm(ref, axis=1) < 1e-9
+            ref = np.where(weak[:, None], facing - dh * np.sum(facing * dh, axis=1)[:, None], ref)
+            ang = np.arctan2(np.sum(cross(ref, pe) * dh, axis=1), np.sum(ref * pe, axis=1))
+            bent = [f"elbow swivel {fmt_angle(x)}" for x in ang]
+        else:
+            upc = pe @ w0
+            sgn = np.where(np.abs(upc) > 1e-3 * npe, upc, np.sum(pe * facing, axis=1))
+            bent = ["elbow up" if x else "elbow down" for x in (sgn > 0).tolist()]
+        cols.append(
+            [("arm stretched" if o_ else "arm folded") if st_ else b for st_, o_, b in zip(straight, out_, bent)]
+        )
+    elif E is not None:
+        wk = np.einsum("kij,j->ki", R[:, pl.elbow_joint], L.w[pl.elbow_joint])
+        fwd = (np.sum(wk * (W - S), axis=1) >= 0).tolist()
+        cols.append(["boom forward" if f else "boom reversed" for f in fwd])
+    if pl.wrist_joint is not None:
+        v = wrap(Q[:, pl.wrist_joint])
+        aligned = (np.abs(np.sin(v)) < 1e-6).tolist()
+        pos = (v > 0).tolist()
+        cols.append(
+            [
+                "wrist axes aligned" if al else ("wrist not flipped" if p_ else "wrist flipped")
+                for al, p_ in zip(aligned, pos)
+            ]
+        )
+    return [" · ".join(ws) for ws in zip(*cols)]
+
+
+def _fallback(chain, q):
+    signs = []
+    for i, (v, r) in enumerate(zip(q, chain.revolute)):
+        if r:
+            signs.append(f"{chain.names[i]} {'positive' if wrap(v) >= 0 else 'negative'}")
+    return " · ".join(signs[:3]) or "single configuration"

@@ -1,0 +1,163 @@
+"""``poser ik``: every inverse-kinematics branch for a tool pose, as a table or JSON.
+
+Every value is read and printed in the arm's own units.  Exit status 0 when
+some branch reaches the target within limits, 1 when none does, 2 on bad
+input (raised as :class:`poser.cli.UsageError`).
+"""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+
+from poser.cli import UsageError, _fmt, parse_list
+
+__all__ = ["run_ik", "result_to_json"]
+
+
+def _branch_json(chain, b, near_user=None):
+    units = chain.units
+    q_user = chain.q_to_user(b.q)
+    viol = []
+    for v in b.violations:
+        conv = (lambda x: float(units.angle_out(x))) if chain.revolute[v.joint] else float
+        viol.append(
+            {
+                "joint": v.name,
+                "index": v.joint,
+                "side": v.side,
+                "limit": conv(v.limit),
+                "value": conv(v.value),
+                "excess": conv(v.excess),
+            }
+        )
+    out = {
+        "joints": [float(x) for x in q_user],
+        "label": b.label,
+        "configuration": b.configuration,
+        "within_limits": bool(b.within_limits),
+        "violations": viol,
+        "reaches": bool(b.reaches),
+        "position_error": float(b.position_error),
+        "orientation_error": float(units.angle_out(b.orientation_error)),
+        "manipulability": float(b.manipulability),
+    }
+    if near_user is not None:
+        out["distance"] = float(np.linalg.norm(q_user - near_user))
+    return out
+
+
+def result_to_json(chain, result, xyz, rpy_user=None, near_user=None) -> dict:
+    """The JSON object of ``poser ik`` for an :class:`~poser.core.ik.IKResult` (arm units)."""
+    units = chain.units
+    out = {
+        "arm": chain.name,
+        "units": {"length": units.length, "angle": units.angle},
+        "target": {
+            "xyz": [float(v) for v in xyz],
+            "rpy": None if rpy_user is None else [float(v) for v in rpy_user],
+        },
+        "position_only": bool(result.position_only),
+        "reachable": bool(result.reachable),
+        "solver": result.solver,
+        "redundant": bool(result.redundant),
+        "message": result.message,
+        "joint_names": list(chain.names),
+        "joint_units": [units.joint_unit(k) for k in chain.kinds],
+        "branches": [_branch_json(chain, b, near_user) for b in result.branches],
+        "closest": None if result.closest is None else _branch_json(chain, result.closest, near_user),
+        "nearest_point": None if result.nearest_point is None else [float(v) for v in result.nearest_point],
+    }
+    if result.nearest_point is not None:
+        out["nearest_distance"] = float(np.linalg.norm(np.asarray(result.nearest_point) - np.asarray(xyz)))
+    return out
+
+
+def _table(chain, branches, near_user):
+    units = chain.units
+    A, Lu = units.angle, units.length
+    heads = ["#"] + [f"{n} [{units.joint_unit(k)}]" for n, k in zip(chain.names, chain.kinds)]
+    heads += [f"pos err [{Lu}]", f"ori err [{A}]", "manip.", "limits"]
+    if near_user is not None:
+        heads.append("distance")
+    heads.append("configuration")
+    rows = []
+    for i, b in enumerate(branches, 1):
+        q_user = chain.q_to_user(b.q)
+        row = [str(i)] + [f"{round(float(v), 3) + 0.0:.3f}" for v in q_user]
+        row += [f"{b.position_error:.3g}", f"{float(units.angle_out(b.orientation_error)):.3g}"]
+        row += [f"{b.manipulability:.4g}"]
+        if b.within_limits:
+            row.append("ok")
+        else:
+            row.append("beyond " + ", ".join(f"{v.name} {v.side}" for v in b.violations))
+        if near_user is not None:
+            row.append(f"{np.linalg.norm(q_user - near_user):.3f}")
+        row.append(b.label + ("" if b.reaches else "  (does not reach)"))
+        rows.append(row)
+    widths = [max(len(h), *(len(r[c]) for r in rows)) if rows else len(h) for c, h in enumerate(heads)]
+    last = len(heads) - 1
+
+    def line(cells):
+        parts = []
+        for c, cell in enumerate(cells):
+            if c == last:
+                parts.append(cell)
+            elif c == 0 or c > chain.n + 3:
+                parts.append(cell.ljust(widths[c]))
+            else:
+                parts.append(cell.rjust(widths[c]))
+        return "  ".join(parts).rstrip()
+
+    out = [line(heads)]
+    out += [line(r) for r in rows]
+    return out
+
+
+def run_ik(args, spec, chain) -> int:
+    """Run ``poser ik`` for parsed ``args`` (strings) on the loaded arm; return the exit status."""
+    from poser.core.ik import solve
+    from poser.core.transforms import rpy_to_matrix
+
+    units = chain.units
+    xyz = parse_list(args.xyz, "--xyz", 3)
+    rpy_user = None
+    R = None
+    if getattr(args, "rpy", None) is not None:
+        rpy_user = parse_list(args.rpy, "--rpy", 3)
+        R = rpy_to_matrix(np.asarray(units.angle_in(rpy_user), float))
+    near_user = None
+    near = None
+    if getattr(args, "near", None) is not None:
+        near_user = parse_list(args.near, "--near", chain.n)
+        near = chain.q_from_user(near_user)
+    if np.max(np.abs(xyz)) > 1e12:
+        raise UsageError(f"--xyz values are too large to be a position: {args.xyz!r}")
+    result = solve(chain, xyz, R, near, time_budget=0.5)
+    code = 0 if result.reachable else 1
+    if getattr(args, "json", False):
+        print(json.dumps(result_to_json(chain, result, xyz, rpy_user, near_user), indent=2))
+        return code
+    Lu, A = units.length, units.angle
+    print(f"Arm {chain.name!r} — lengths in {Lu}, angles in {A}")
+    target = f"xyz = {', '.join(_fmt(v) for v in xyz)} {Lu}"
+    if rpy_user is not None:
+        target += f"; rpy = {', '.join(_fmt(v) for v in rpy_user)} {A} (about fixed X, Y, Z)"
+    else:
+        target += " (position only)"
+    print(f"Target: {target}")
+    print(f"Solver: {result.solver}")
+    if result.branches:
+        print(f"Branches ({len(result.branches)}):")
+        print("\n".join(_table(chain, result.branches, near_user)))
+    else:
+        print("Branches: none")
+    if result.closest is not None:
+        print("Closest approach within limits:")
+        print("\n".join(_table(chain, [result.closest], near_user)))
+    if result.nearest_point is not None:
+        npnt = result.nearest_point
+        print(f"Nearest reachable point: {', '.join(_fmt(v) for v in npnt)} {Lu}")
+    print(result.message)
+    return code
