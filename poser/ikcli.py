@@ -148,16 +148,33 @@ def run_ik(args, spec, chain) -> int:
         target += " (position only)"
     print(f"Target: {target}")
     print(f"Solver: {result.solver}")
-    if result.branches:
-        print(f"Branches ({len(result.branches)}):")
-        print("\n".join(_table(chain, result.branches, near_user)))
+    reaching = [b for b in result.branches if b.reaches]
+    missing = [b for b in result.branches if not b.reaches]
+    if reaching:
+        print(f"Branches that reach the target ({len(reaching)}; within limits first):")
+        print("\n".join(_table(chain, reaching, near_user)))
     else:
-        print("Branches: none")
+        print("No branch reaches the target.")
+    if missing:
+        # Candidates of the arm's structure that cannot reach this target: listed apart, so the
+        # table above holds only real solutions.
+        print(f"Configurations that do not reach it ({len(missing)}):")
+        shown = 8 if reaching else 4
+        for b in missing[:shown]:
+            limits = "" if b.within_limits else "; also beyond " + ", ".join(f"{v.name} {v.side}" for v in b.violations)
+            print(f"  {b.label} — misses by {b.position_error:.4g} {Lu}{limits}")
+        if len(missing) > shown:
+            print(f"  … and {len(missing) - shown} more (see --json)")
     if result.closest is not None:
         print("Closest approach within limits:")
         print("\n".join(_table(chain, [result.closest], near_user)))
     if result.nearest_point is not None:
         npnt = result.nearest_point
         print(f"Nearest reachable point: {', '.join(_fmt(v) for v in npnt)} {Lu}")
+    if reaching or result.closest is not None:
+        print(
+            f"manip. = manipulability √det(J·Jᵀ) (Yoshikawa), Jacobian lengths in {Lu}; "
+            "it falls to 0 at a singularity."
+        )
     print(result.message)
     return code
