@@ -56,6 +56,14 @@ def make_window(qtbot, tmp_path):
         return win
 
     yield make
+    from PySide6.QtCore import QEvent
+    from PySide6.QtWidgets import QApplication
+
     for w in made:
         w.state.set_arm(w.state.spec, dirty=False)  # no prompt on close
         w.close()
+        # Delete the window now, as the application does: a closed but living window whose 3D view
+        # (a QWindow in a container) outlives its GL window crashes QApplication's destructor at exit.
+        w.deleteLater()
+    QApplication.sendPostedEvents(None, QEvent.Type.DeferredDelete)
+    QApplication.processEvents()
