@@ -19,7 +19,6 @@ from PySide6.QtWidgets import (
     QLabel,
     QLineEdit,
     QPushButton,
-    QTableWidget,
     QTableWidgetItem,
     QVBoxLayout,
     QWidget,
@@ -31,6 +30,7 @@ from poser.core.errors import PoserError
 from poser.core.units import ANGLE_UNITS, LENGTH_UNITS, Units
 from poser.ui import palette
 from poser.ui.state import PoseState
+from poser.ui.tables import CompactTable
 
 KEYS = ("name", "type", "a", "alpha", "d", "theta", "min", "max", "home")
 TYPES = ("revolute", "prismatic")
@@ -88,28 +88,36 @@ class EditorPanel(QWidget):
         self.angle = QComboBox()
         self.angle.addItems(list(ANGLE_UNITS))
         units_row = QHBoxLayout()
-        units_row.addWidget(QLabel("length"))
-        units_row.addWidget(self.length)
-        units_row.addWidget(QLabel("angle"))
-        units_row.addWidget(self.angle)
-        units_row.addWidget(QLabel("convention"))
+        for text, w in (("length", self.length), ("angle", self.angle)):
+            lab = QLabel(text)
+            lab.setBuddy(w)
+            units_row.addWidget(lab)
+            units_row.addWidget(w)
+        units_row.addSpacing(12)
+        dh_label = QLabel("DH &convention")
+        dh_label.setBuddy(self.convention)
+        units_row.addWidget(dh_label)
         units_row.addWidget(self.convention)
         units_row.addStretch(1)
+        self.length.setAccessibleName("length unit")
+        self.angle.setAccessibleName("angle unit")
+        self.convention.setAccessibleName("DH convention")
         self.base_xyz, self.base_rpy, self.tool_xyz, self.tool_rpy = (QLineEdit() for _ in range(4))
         form.addRow("&Name", self.name)
         form.addRow("Units", units_row)
-        place = QHBoxLayout()
-        for lab, w in (("base xyz", self.base_xyz), ("rpy", self.base_rpy)):
-            place.addWidget(QLabel(lab))
-            place.addWidget(w)
-        form.addRow("Base", place)
-        place = QHBoxLayout()
-        for lab, w in (("tool xyz", self.tool_xyz), ("rpy", self.tool_rpy)):
-            place.addWidget(QLabel(lab))
-            place.addWidget(w)
-        form.addRow("Tool", place)
-        for w, what in ((self.base_xyz, "base position"), (self.base_rpy, "base roll, pitch, yaw"),
-                        (self.tool_xyz, "tool offset"), (self.tool_rpy, "tool roll, pitch, yaw")):
+        self.place_labels = []
+        for title, xyz, rpy in (("Base", self.base_xyz, self.base_rpy), ("Tool", self.tool_xyz, self.tool_rpy)):
+            place = QHBoxLayout()
+            for w in (xyz, rpy):
+                lab = QLabel()
+                lab.setBuddy(w)
+                place.addWidget(lab)
+                place.addWidget(w, 1)
+                self.place_labels.append(lab)
+            form.addRow(title, place)
+        for w, what in ((self.base_xyz, "base position in the world"), (self.base_rpy, "base roll, pitch, yaw"),
+                        (self.tool_xyz, "tool point from the last joint frame"),
+                        (self.tool_rpy, "tool roll, pitch, yaw")):
             w.setToolTip(f"{what}: three numbers separated by commas")
             w.setAccessibleName(what)
         lay.addLayout(form)
@@ -119,7 +127,7 @@ class EditorPanel(QWidget):
         self.message.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
         lay.addWidget(self.message)
 
-        self.table = QTableWidget(0, len(KEYS))
+        self.table = CompactTable(0, len(KEYS))
         self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
         self.table.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
         hh = self.table.horizontalHeader()
@@ -183,17 +191,18 @@ class EditorPanel(QWidget):
     def _headers(self) -> None:
         L, A = self.length.currentText(), self.angle.currentText()
         self.table.setHorizontalHeaderLabels(
-            ["name", "type", f"a {L}", f"alpha {A}", f"d {L}", f"theta {A}", "min", "max", "home"]
+            ["name", "type", f"a ({L})", f"alpha ({A})", f"d ({L})", f"theta ({A})", "min", "max", "home"]
         )
-        tips = ["joint name (unique)", "revolute (turns) or prismatic (slides)", f"link length, {L}",
+        for lab, text in zip(self.place_labels, (f"xyz ({L})", f"rpy ({A})", f"xyz ({L})", f"rpy ({A})")):
+            lab.setText(text)
+        tips = ["joint name (unique)", "revolute (rotary: turns) or prismatic (linear: slides)", f"link length, {L}",
                 f"link twist, {A}", f"link offset, {L}", f"joint angle offset, {A}",
                 f"lower limit: {A} for revolute, {L} for prismatic joints",
                 f"upper limit: {A} for revolute, {L} for prismatic joints",
                 "home value (blank: 0, or mid-range when 0 is outside the limits)"]
         for c, tip in enumerate(tips):
             self.table.horizontalHeaderItem(c).setToolTip(tip)
-        self.limits_note.setText(f"min, max and home are in {A} for revolute joints and in {L} for prismatic joints; "
-                                 "blank home means 0.")
+        self.limits_note.setText(f"min, max, home: {A} for revolute, {L} for prismatic joints; blank home: 0")
 
     def _append_row(self, j: JointSpec, at: int | None = None) -> None:
         r = self.table.rowCount() if at is None else at
@@ -291,7 +300,7 @@ class EditorPanel(QWidget):
                 f"• {p}" for p in self.problems)
             self.message.setStyleSheet(f"color: {palette.AT}")
         else:
-            text = "The arm is valid; the 3D view shows it."
+            text = "The arm is valid; the view shows it."
             self.message.setStyleSheet(f"color: {palette.OK}")
         self.message.setText(text)
 

@@ -22,6 +22,12 @@ from poser.ui.geometry import format_matrix
 from poser.ui.state import PoseState
 from poser.ui.words import fmt
 
+
+def subscript(i: int) -> str:
+    """``12`` → ``"₁₂"`` (for A₁, A₁₂ in titles)."""
+    return str(i).translate(str.maketrans("0123456789", "₀₁₂₃₄₅₆₇₈₉"))
+
+
 STYLES = (("text", "as plain text"), ("numpy", "as a NumPy array literal"), ("csv", "as CSV"))
 
 
@@ -155,7 +161,7 @@ class FramesPanel(QWidget):
         self.xyz_label.setText(f"xyz = {', '.join(fmt(v, 3) for v in xyz)} {u.length}")
         self.rpy_label.setText(f"rpy = {', '.join(fmt(v, 3) for v in rpy_u)} {u.angle}\n(about fixed X, Y, Z)")
         i = self.link
-        self.a_box.setTitle(f"A_{i}: frame {i - 1} → frame {i}")
+        self.a_box.setTitle(f"A{subscript(i)}: frame {i - 1} → frame {i}")
         self.w_box.setTitle(f"world → frame {i}")
         self.a_matrix.setText(format_matrix(self.matrix("A"), "text", 4))
         self.w_matrix.setText(format_matrix(self.matrix("world"), "text", 4))

@@ -303,8 +303,16 @@ def format_matrix(T, style: str = "text", digits: int = 6) -> str:
     T = np.asarray(T, float)
     cells = [[_num(x, digits) for x in row] for row in T]
     if style == "text":
-        w = max(len(c) for row in cells for c in row)
-        return "\n".join("  ".join(c.rjust(w) for c in row) for row in cells)
+        # columns aligned on the decimal point, so digits of the same weight sit under each other
+        ints = [[c.split(".")[0] for c in row] for row in cells]
+        fracs = [[c.split(".")[1] if "." in c else "" for c in row] for row in cells]
+        wi = max(len(x) for row in ints for x in row)
+        wf = max(len(x) for row in fracs for x in row)
+
+        def cell(i, f):
+            return i.rjust(wi) + (("." + f) if f else (" " if wf else "")).ljust(wf + 1 if wf else 0)
+
+        return "\n".join("  ".join(cell(i, f) for i, f in zip(ri, rf)).rstrip() for ri, rf in zip(ints, fracs))
     if style == "numpy":
         rows = ",\n".join("    [" + ", ".join(row) + "]" for row in cells)
         return "np.array([\n" + rows + ",\n])"

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 from PySide6.QtCore import QEvent, QRectF, QSignalBlocker, Qt
-from PySide6.QtGui import QColor, QPainter, QPen
+from PySide6.QtGui import QColor, QPainter, QPalette, QPen
 from PySide6.QtWidgets import (
     QAbstractSpinBox,
     QDoubleSpinBox,
@@ -20,10 +20,11 @@ from PySide6.QtWidgets import (
 
 from poser.ui import palette
 from poser.ui.state import PoseState
-from poser.ui.words import LimitState, fmt
+from poser.ui.words import LimitState, fmt, kind_words
 
 SLIDER_STEPS = 2000
-KIND_WORDS = {"revolute": "revolute (turns)", "prismatic": "prismatic (slides)"}
+TINTS = {"near": "#FBEFCF", "at": "#F8D7D7", "beyond": "#F8D7D7"}
+"""Light fills of a value box near or at a limit (the words beside it say the same)."""
 
 
 class MarginBar(QWidget):
@@ -78,8 +79,10 @@ class JointRow:
         self.name = QLabel(chain.names[i])
         self.name.setMinimumWidth(80)
         self.name.setStyleSheet("font-weight: bold")
-        self.kind = QLabel(KIND_WORDS[chain.kinds[i]])
-        self.kind.setStyleSheet(f"color: {palette.MUTED}; font-size: 8pt")
+        short, tip = kind_words(chain.kinds[i], unit)
+        self.kind = QLabel(short)
+        self.kind.setToolTip(tip)
+        self.kind.setStyleSheet(f"color: {palette.MUTED}")
         self.slider = QSlider(Qt.Orientation.Horizontal)
         self.slider.setRange(0, SLIDER_STEPS)
         self.slider.setMinimumWidth(100)
@@ -95,8 +98,10 @@ class JointRow:
         self.spin.setCorrectionMode(QAbstractSpinBox.CorrectionMode.CorrectToNearestValue)
         self.spin.setAccessibleName(f"{chain.names[i]} value in {unit}")
         self.spin.setMinimumWidth(95)
+        self.spin_palette = QPalette(self.spin.palette())
         self.limits = QLabel(f"{fmt(lo)} … {fmt(hi)} {unit}")
-        self.limits.setToolTip("lower … upper limit")
+        self.limits.setToolTip(f"{chain.names[i]}: lower limit … upper limit, {unit}")
+        self.limits.setAccessibleName(f"{chain.names[i]} limits")
         self.bar = MarginBar()
         self.words = QLabel("")
         self.words.setMinimumWidth(150)
@@ -122,11 +127,12 @@ class JointPanel(QWidget):
         self.state = state
         self.rows: list[JointRow] = []
         top = QHBoxLayout()
-        self.home_button = QPushButton("&Home")
-        self.home_button.setToolTip("every joint to its home value (Alt+H)")
+        # no mnemonics: Alt+H opens the Help menu; the Pose menu's Ctrl+H and Ctrl+0 do the same as these
+        self.home_button = QPushButton("Home")
+        self.home_button.setToolTip("every joint to its home value (Ctrl+H)")
         self.home_button.clicked.connect(lambda: self.state.home(writer=self))
-        self.zero_button = QPushButton("&Zero")
-        self.zero_button.setToolTip("every joint to 0 (or its nearest limit) (Alt+Z)")
+        self.zero_button = QPushButton("Zero")
+        self.zero_button.setToolTip("every joint to 0, or to its nearer limit when 0 is outside the range (Ctrl+0)")
         self.zero_button.clicked.connect(lambda: self.state.zero(writer=self))
         top.addWidget(self.home_button)
         top.addWidget(self.zero_button)
@@ -139,9 +145,12 @@ class JointPanel(QWidget):
         self.margin_spin.setValue(100 * state.option("margin"))
         self.margin_spin.setToolTip("a joint turns amber this close to a limit")
         self.margin_spin.valueChanged.connect(lambda v: self.state.set_option("margin", v / 100.0, writer=self))
-        lab = QLabel("&Warn within (of range)")
-        lab.setBuddy(self.margin_spin)
-        top.addWidget(lab)
+        self.margin_label = QLabel("&Warn within")
+        self.margin_label.setBuddy(self.margin_spin)
+        self.margin_label.setToolTip("a joint is marked amber (and 'near … limit') this close to a limit, "
+                                     "in percent of its range")
+        self.margin_spin.setToolTip(self.margin_label.toolTip())
+        top.addWidget(self.margin_label)
         top.addWidget(self.margin_spin)
         top.addSpacing(10)
         self.step_spin = QDoubleSpinBox()  # revolute joints, arm angle unit
@@ -151,16 +160,25 @@ class JointPanel(QWidget):
             spin.setDecimals(3)
             spin.setValue(state.option(key))
             spin.valueChanged.connect(lambda v, k=key: self.state.set_option(k, v, writer=self))
-        self.step_spin.setAccessibleName("arrow-key step of revolute joints")
-        self.step_length_spin.setAccessibleName("arrow-key step of prismatic joints")
-        self.step_label = QLabel("Arrow-key &step (Shift: ten steps)")
+        self.step_spin.setAccessibleName("arrow-key step of rotary joints")
+        self.step_length_spin.setAccessibleName("arrow-key step of linear joints")
+        self.step_spin.setToolTip(
+            "arrow keys move a focused rotary joint by this much (Shift or Page Up/Down: ten steps)")
+        self.step_length_spin.setToolTip(
+            "arrow keys move a focused linear joint by this much (Shift or Page Up/Down: ten steps)")
+        self.step_label = QLabel("Arrow &step")
+        self.step_label.setToolTip("how far one press of an arrow key moves the focused joint (Shift: ten steps)")
         self.step_label.setBuddy(self.step_spin)
+        self.steps_box = QWidget()
+        steps = QHBoxLayout(self.steps_box)
+        steps.setContentsMargins(0, 0, 0, 0)
+        steps.addWidget(self.step_label)
+        steps.addWidget(self.step_spin)
+        steps.addWidget(self.step_length_spin)
+        steps.addStretch(1)
+        self.top = top
+        top.addWidget(self.steps_box)
         top.addStretch(1)
-        top2 = QHBoxLayout()
-        top2.addWidget(self.step_label)
-        top2.addWidget(self.step_spin)
-        top2.addWidget(self.step_length_spin)
-        top2.addStretch(1)
 
         self.grid_host = QWidget()
         self.grid = QGridLayout(self.grid_host)
@@ -170,7 +188,8 @@ class JointPanel(QWidget):
         lay = QVBoxLayout(self)
         lay.setContentsMargins(4, 4, 4, 4)
         lay.addLayout(top)
-        lay.addLayout(top2)
+        self.second_row = QHBoxLayout()  # the steps move here when an arm has both joint types (two boxes)
+        lay.addLayout(self.second_row)
         lay.addWidget(self.grid_host, 1)
         self._source = None
         state.changed.connect(self._on_state)
@@ -212,6 +231,12 @@ class JointPanel(QWidget):
         self.step_length_spin.setSuffix(f" {u.length}")
         self.step_spin.setVisible("revolute" in kinds)
         self.step_length_spin.setVisible("prismatic" in kinds)
+        self.top.removeWidget(self.steps_box)
+        self.second_row.removeWidget(self.steps_box)
+        if len(kinds) > 1:
+            self.second_row.insertWidget(0, self.steps_box)
+        else:
+            self.top.insertWidget(self.top.count() - 1, self.steps_box)  # before the closing stretch
         if "revolute" not in kinds:
             self.step_label.setBuddy(self.step_length_spin)
         self._sync_options()
@@ -280,9 +305,11 @@ class JointPanel(QWidget):
                 colour = palette.LEVEL_COLOURS[ls.level]
                 weight = "bold" if ls.level != "ok" else "normal"
                 row.words.setStyleSheet(f"color: {colour}; font-weight: {weight}")
-                row.spin.setStyleSheet(
-                    "" if ls.level == "ok" else f"QDoubleSpinBox {{ border: 2px solid {colour}; }}"
-                )
+                # a tinted fill through the palette: a style-sheet border would replace the native arrow buttons
+                pal = QPalette(row.spin_palette)
+                if ls.level != "ok":
+                    pal.setColor(QPalette.ColorRole.Base, QColor(TINTS[ls.level]))
+                row.spin.setPalette(pal)
                 row.level = ls.level
 
     def _on_state(self, field: str) -> None:

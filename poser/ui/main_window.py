@@ -151,9 +151,16 @@ class MainWindow(QMainWindow):
             self._sized = True
             self.resizeDocks([self.docks["view"], self.docks["joints"]], [int(w * 0.5), int(w * 0.5)],
                              Qt.Orientation.Horizontal)
-            h = self.height()
-            self.resizeDocks([self.docks["joints"], self.docks["target"]], [int(h * 0.45), int(h * 0.55)],
-                             Qt.Orientation.Vertical)
+            self.fit_joint_dock()
+
+    def fit_joint_dock(self) -> None:
+        """Give the joint panel the height its rows need (within 30-60 % of the window), the target the rest."""
+        h = self.height()
+        title = self.docks["joints"].widget().mapTo(self.docks["joints"], QPoint(0, 0)).y() or 24
+        want = self.joints.sizeHint().height() + title + 14
+        joints = int(min(max(want, 0.3 * h), 0.6 * h))
+        self.resizeDocks([self.docks["joints"], self.docks["target"]], [joints, max(h - joints, 1)],
+                         Qt.Orientation.Vertical)
 
     def _build_menus(self) -> None:
         mb = self.menuBar()
@@ -368,6 +375,8 @@ class MainWindow(QMainWindow):
         self.setWindowModified(st.dirty)
 
     def _on_state(self, field: str) -> None:
+        if field == "arm" and getattr(self, "_sized", False) and self.state.writer is not self.editor:
+            self.fit_joint_dock()  # another arm: another number of joint rows (not while editing rows live)
         if field in ("document", "arm"):
             self._title()
             self._write_recovery()

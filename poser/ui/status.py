@@ -2,11 +2,17 @@
 
 from __future__ import annotations
 
-from PySide6.QtWidgets import QLabel, QSizePolicy, QStatusBar
+from PySide6.QtWidgets import QHBoxLayout, QLabel, QSizePolicy, QStatusBar, QWidget
 
 from poser.ui import palette
+from poser.ui.elided import ElidedLabel
 from poser.ui.state import PoseState
-from poser.ui.words import fmt, singularity_words
+from poser.ui.words import MANIPULABILITY_TIP, fmt, manipulability_text, manipulability_unit, singularity_words
+
+
+def short_render_note(note: str) -> str:
+    """The renderer note without the driver's name (that goes in the tooltip): ``"3D: software OpenGL"``."""
+    return note.split(" (")[0] if note.startswith("3D:") else note
 
 
 class PoseStatusBar(QStatusBar):
@@ -15,20 +21,27 @@ class PoseStatusBar(QStatusBar):
     def __init__(self, state: PoseState, render_note: str, parent=None):
         super().__init__(parent)
         self.state = state
-        self.singular = QLabel()
+        # Long texts end in "…" rather than widening the window or being cut mid-word; the tooltip keeps them whole.
+        self.singular = ElidedLabel()
         self.singular.setAccessibleName("singularity proximity")
-        self.limits = QLabel()
+        self.limits = ElidedLabel()
         self.limits.setAccessibleName("limit warnings")
         self.arm = QLabel()
-        self.render = QLabel(render_note)
+        self.render = QLabel(short_render_note(render_note))
         self.render.setStyleSheet(f"color: {palette.MUTED}")
-        for label in (self.singular, self.limits):
-            # long texts are cut at the window's edge rather than widening the window (tooltips keep them whole)
-            label.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
-            label.setMinimumWidth(40)
         self.render.setToolTip(render_note)
-        self.addWidget(self.singular, 5)
-        self.addWidget(self.limits, 4)
+        self.render.setAccessibleName("how the view is drawn")
+        self.render.setAccessibleDescription(render_note)
+        # one box of our own for the two warnings: QStatusBar does not lay its items out again when a
+        # size hint changes, this box does
+        self.singular.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Preferred)  # its whole text first
+        self.warnings = QWidget()
+        box = QHBoxLayout(self.warnings)
+        box.setContentsMargins(0, 0, 0, 0)
+        box.setSpacing(14)
+        box.addWidget(self.singular)
+        box.addWidget(self.limits, 1)
+        self.addWidget(self.warnings, 1)
         self.addPermanentWidget(self.arm)
         self.addPermanentWidget(self.render)
         self._levels = {}
@@ -43,15 +56,24 @@ class PoseStatusBar(QStatusBar):
         weight = "bold" if level != "ok" else "normal"
         label.setStyleSheet(f"color: {colour}; font-weight: {weight}")
 
+    def singularity_text(self) -> tuple[str, str]:
+        """(level, text) of the singularity label: the verdict first, then the figures behind it."""
+        w, kappa, w_n = self.state.metrics()
+        level, verdict = singularity_words(kappa)
+        return level, f"{verdict} · condition {fmt(kappa, 1)} · manipulability {manipulability_text(w_n)}"
+
     def _refresh(self) -> None:
         st = self.state
-        w, kappa, _ = st.metrics()
-        level, text = singularity_words(kappa)
-        self.singular.setText(f"manipulability {w:.3g} · condition {fmt(kappa, 1)}: {text}")
+        w, kappa, w_n = st.metrics()
+        level, text = self.singularity_text()
+        self.singular.setText(text)
+        unit = manipulability_unit(st.chain)
+        raw = f"{w:.3g} {unit}" if unit else f"{w:.3g} (mixed units: fewer than six joints)"
         self.singular.setToolTip(
-            "manipulability: Yoshikawa's measure of the Jacobian in the arm's units; condition number: of the "
-            "Jacobian with lengths divided by the arm's size (no unit). A large condition number means "
-            "a singularity is near."
+            f"{text}\n\ncondition number: ratio of the Jacobian's largest to smallest singular value, lengths "
+            f"divided by the arm's size L = {fmt(st.scale, 1)} {st.chain.units.length} (no unit; 1 is ideal, "
+            f"infinite at a singularity; above 80 Poser warns).\n{MANIPULABILITY_TIP}\n"
+            f"Raw manipulability in the arm's units: {raw}."
         )
         self._style(self.singular, level)
         states = st.limit_states()
@@ -61,9 +83,11 @@ class PoseStatusBar(QStatusBar):
             self._style(self.limits, "ok")
         else:
             worst = "at" if any(s.level in ("at", "beyond") for _, s in bad) else "near"
-            self.limits.setText("limits: " + "; ".join(f"{n} {s.words}" for n, s in bad))
+            head = "limits: " if len(bad) == 1 else f"limits ({len(bad)} joints): "
+            # worst first, so a cut-off end never hides a joint at its limit behind one that is only near
+            bad.sort(key=lambda ns: {"beyond": 0, "at": 1, "near": 2}[ns[1].level])
+            self.limits.setText(head + "; ".join(f"{n} {s.words}" for n, s in bad))
             self._style(self.limits, worst)
-        self.limits.setToolTip(self.limits.text())
         u = st.chain.units
         name = st.path.name if st.path else "not saved"
         star = " (edited)" if st.dirty else ""

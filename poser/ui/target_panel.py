@@ -4,16 +4,15 @@ from __future__ import annotations
 
 import numpy as np
 from PySide6.QtCore import QEvent, QSignalBlocker, Qt
+from PySide6.QtGui import QColor
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QComboBox,
     QDoubleSpinBox,
-    QGridLayout,
     QHBoxLayout,
     QHeaderView,
     QLabel,
     QPushButton,
-    QTableWidget,
     QTableWidgetItem,
     QVBoxLayout,
     QWidget,
@@ -23,17 +22,32 @@ from poser.ui import geometry, ikbridge, palette, words
 from poser.ui.animate import JointAnimator
 from poser.ui.solver import TargetSolver
 from poser.ui.state import PoseState, Target
+from poser.ui.tables import CompactTable
 
 MODES = ("rpy", "axis-angle", "quaternion", "position only")
-COLUMNS = ("#", "branch", "within limits", "worst violation", "manipulability", "largest joint move")
+COLUMNS = ("#", "branch", "limits", "manip.", "largest move")
 HEADER_TIPS = (
     "branch number",
-    "how the arm is set up in this branch",
-    "yes when every joint is inside its limits",
-    "the joint furthest beyond a limit, and by how much",
-    "Yoshikawa manipulability at this branch (arm units; larger is farther from a singularity)",
-    "the largest single joint move from the present pose",
+    "how the arm is set up in this branch (the whole label is also in the line below the list)",
+    "yes when every joint is inside its limits; otherwise NO and the joint furthest beyond a limit",
+    words.MANIPULABILITY_TIP,
+    "the largest single joint move from the present pose (which joint: hover the cell, or see below the list)",
 )
+LIMIT_COL_MAX = 140
+"""Widest the limits column grows (pixels) before its text wraps onto a second line."""
+MANIP_COL_MAX = 110
+DECIMALS = {"mm": 3, "m": 5, "in": 4, "deg": 3, "rad": 5}
+"""Decimals of the target fields by unit (a tenth of a micrometre-ish, a thousandth of a degree)."""
+
+
+def limits_cell(chain, branch) -> str:
+    """``"yes"`` or ``"NO: J5 wrist bend 44.9 deg under"`` (the worst violation, shortened)."""
+    if branch.within_limits:
+        return "yes"
+    worst = words.worst_violation(chain, branch)
+    if worst == "none":
+        return "NO"
+    return "NO: " + worst.replace(": ", " ", 1).replace(" over upper", " over").replace(" under lower", " under")
 
 
 class TargetPanel(QWidget):
@@ -46,40 +60,48 @@ class TargetPanel(QWidget):
         self.animator = animator
         lay = QVBoxLayout(self)
         lay.setContentsMargins(4, 4, 4, 4)
-        grid = QGridLayout()
+        pos_row = QHBoxLayout()
         self.xyz = []
-        for k, name in enumerate("xyz"):
+        for name in "xyz":
             s = self._spin(4)
             s.setAccessibleName(f"target {name}")
-            lab = QLabel(f"&{name}" if name != "x" else "&x")
+            lab = QLabel(name)  # no mnemonic: Ctrl+4 comes here, and Alt+X/Y/Z would crowd the others
             lab.setBuddy(s)
-            grid.addWidget(lab, 0, 2 * k)
-            grid.addWidget(s, 0, 2 * k + 1)
+            pos_row.addWidget(lab)
+            pos_row.addWidget(s, 1)
             self.xyz.append(s)
+        lay.addLayout(pos_row)
+        ori_row = QHBoxLayout()
         self.mode = QComboBox()
         self.mode.addItems(MODES)
         self.mode.setAccessibleName("orientation notation")
-        self.mode.setToolTip("how the target orientation is written (or position only)")
+        self.mode.setToolTip("how the target orientation is written: roll-pitch-yaw about fixed X, Y, Z; "
+                             "axis and angle; quaternion w, x, y, z; or no orientation at all (position only)")
         mlab = QLabel("&Orientation")
         mlab.setBuddy(self.mode)
-        grid.addWidget(mlab, 1, 0)
-        grid.addWidget(self.mode, 1, 1, 1, 3)
+        ori_row.addWidget(mlab)
+        ori_row.addWidget(self.mode)
+        ori_row.addSpacing(8)
+        ori_values = QHBoxLayout()
         self.ori_labels = []
         self.ori = []
-        for k in range(4):
+        for _k in range(4):
             lab = QLabel()
             s = self._spin(5)
-            grid.addWidget(lab, 2 + k // 2, 2 * (k % 2))
-            grid.addWidget(s, 2 + k // 2, 2 * (k % 2) + 1)
+            ori_values.addWidget(lab)
+            ori_values.addWidget(s, 1)
             self.ori_labels.append(lab)
             self.ori.append(s)
-        lay.addLayout(grid)
+        self.ori_row_host = QWidget()
+        self.ori_row_host.setLayout(ori_values)
+        ori_values.setContentsMargins(0, 0, 0, 0)
+        lay.addWidget(self.ori_row_host)
 
-        buttons = QHBoxLayout()
+        buttons = ori_row  # the buttons share the notation's row (height is scarce under the joints)
         self.take_button = QPushButton("&Take current pose")
         self.take_button.setToolTip("put the tool's present pose in the target fields")
         self.take_button.clicked.connect(self.take_current)
-        self.clear_button = QPushButton("C&lear target")
+        self.clear_button = QPushButton("Clear tar&get")
         self.clear_button.clicked.connect(lambda: self.state.set_target(None, writer=self))
         self.apply_button = QPushButton("&Apply branch")
         self.apply_button.setToolTip("move the arm to the selected branch (Enter in the list does the same)")
@@ -87,13 +109,14 @@ class TargetPanel(QWidget):
         for b in (self.take_button, self.clear_button, self.apply_button):
             buttons.addWidget(b)
         buttons.addStretch(1)
-        lay.addLayout(buttons)
+        lay.insertLayout(1, buttons)
 
         self.summary = QLabel()
         self.summary.setWordWrap(True)
         self.summary.setAccessibleName("solution summary")
+        self.summary.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
         lay.addWidget(self.summary)
-        self.table = QTableWidget(0, len(COLUMNS))
+        self.table = CompactTable(0, len(COLUMNS))
         self.table.setHorizontalHeaderLabels(COLUMNS)
         self.table.verticalHeader().setVisible(False)
         self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
@@ -103,11 +126,17 @@ class TargetPanel(QWidget):
         self.table.setAccessibleName("branches")
         hh = self.table.horizontalHeader()
         hh.setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        hh.setSectionResizeMode(1, QHeaderView.ResizeMode.Stretch)  # the label takes what is left, and wraps
+        hh.setSectionResizeMode(2, QHeaderView.ResizeMode.Interactive)
+        hh.setSectionResizeMode(3, QHeaderView.ResizeMode.Interactive)
         hh.setStretchLastSection(False)
-        self.table.setWordWrap(False)
-        self.table.verticalHeader().setDefaultSectionSize(22)
-        hh.setSectionResizeMode(1, QHeaderView.ResizeMode.Interactive)
-        self.table.setTextElideMode(Qt.TextElideMode.ElideRight)
+        hh.setMinimumSectionSize(24)
+        # No sideways scrolling: every column fits the panel; long texts wrap onto a second line.
+        self.table.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.table.setWordWrap(True)
+        self.table.setTextElideMode(Qt.TextElideMode.ElideMiddle)
+        self.table.verticalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        self.table.verticalHeader().setMinimumSectionSize(20)
         for c, tip in enumerate(HEADER_TIPS):
             self.table.horizontalHeaderItem(c).setToolTip(tip)
         self.table.cellEntered.connect(lambda r, _c: self.state.hover_branch(r, writer=self))
@@ -115,7 +144,14 @@ class TargetPanel(QWidget):
         self.table.installEventFilter(self)
         self.table.itemSelectionChanged.connect(self._from_selection)
         self.table.cellDoubleClicked.connect(lambda r, _c: self.apply_selected())
+        self.table.setMinimumHeight(4 * 22)
         lay.addWidget(self.table, 1)
+        self.details = QLabel()
+        self.details.setWordWrap(True)
+        self.details.setAccessibleName("branch details")
+        self.details.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.details.setMinimumHeight(self.details.fontMetrics().lineSpacing() * 2 + 4)
+        lay.addWidget(self.details)
 
         for s in self.xyz + self.ori:
             s.valueChanged.connect(self._from_fields)
@@ -146,13 +182,15 @@ class TargetPanel(QWidget):
         u = self.state.chain.units
         for s in self.xyz:
             s.setSuffix(f" {u.length}")
-            s.setDecimals(5 if u.length == "m" else 3)
+            s.setDecimals(DECIMALS.get(u.length, 4))
         self._layout_mode()
 
     def _layout_mode(self) -> None:
         mode = self.mode_name
         u = self.state.chain.units
         names = geometry.ORIENTATION_MODES.get(mode, ())
+        self.ori_row_host.setVisible(bool(names))
+        blockers = [QSignalBlocker(s) for s in self.ori]  # new decimals round the value: that is no edit
         for k in range(4):
             on = k < len(names)
             self.ori_labels[k].setVisible(on)
@@ -161,8 +199,10 @@ class TargetPanel(QWidget):
                 angle = mode == "rpy" or (mode == "axis-angle" and k == 3)
                 self.ori_labels[k].setText(names[k])
                 self.ori[k].setSuffix(f" {u.angle}" if angle else "")
-                self.ori[k].setAccessibleName(f"target {names[k]}")
+                self.ori[k].setDecimals(DECIMALS.get(u.angle, 4) if angle else 5)
+                self.ori[k].setAccessibleName(f"target {names[k]}" + (f" in {u.angle}" if angle else ""))
                 self.ori_labels[k].setBuddy(self.ori[k])
+        del blockers
 
     def _fields_to_target(self) -> Target | None:
         xyz = np.array([s.value() for s in self.xyz])
@@ -231,39 +271,118 @@ class TargetPanel(QWidget):
         self.summary.setText(text)
         self.summary.setStyleSheet(f"color: {colour}")
 
+    def _branch_metrics(self) -> list[tuple[float, float]]:
+        """(normalised manipulability, condition number) of every branch, as the status bar computes them."""
+        st = self.state
+        return [geometry.singularity_metrics(st.chain, b.q, st.scale)[1:][::-1] for b in st.branches]
+
     def _fill_table(self) -> None:
         st = self.state
         chain = st.chain
         branches = st.branches
+        position_only = bool(getattr(st.ik, "position_only", False))
+        self._metrics = self._branch_metrics()
         with QSignalBlocker(self.table):
             self.table.setRowCount(len(branches))
-            for r, b in enumerate(branches):
-                within = "yes" if b.within_limits else "NO"
-                if not getattr(b, "reaches", True):
-                    within += f" · misses by {words.fmt(b.position_error, 1)} {chain.units.length}"
+            for r, (b, (w_n, kappa)) in enumerate(zip(branches, self._metrics)):
+                limits = limits_cell(chain, b)
+                reaches = getattr(b, "reaches", True)
+                label = b.label if reaches else f"{b.label} — {words.miss_words(chain, b, position_only)}"
+                s_level, s_words = words.singularity_words(kappa)
+                manip = words.manipulability_text(w_n)
+                if s_level != "ok":
+                    manip += " singular" if s_level == "at" else " near singular"
+                joint, size = words.largest_move_parts(chain, st.q, b.q)
                 cells = (
-                    str(r + 1),
-                    b.label,
-                    within,
-                    words.worst_violation(chain, b),
-                    f"{b.manipulability:.3g}",
-                    words.largest_move(chain, st.q, b.q),
+                    (str(r + 1), f"branch {r + 1}"),
+                    (label, label),
+                    (limits, "; ".join(words.all_violations(chain, b)) or "every joint within its limits"),
+                    (manip, f"manipulability {manip} (normalised, no unit), condition {words.fmt(kappa, 1)}: "
+                            f"{s_words}"),
+                    (size, f"largest joint move from the present pose: {joint} by {size}"),
                 )
-                for c, text in enumerate(cells):
+                for c, (text, tip) in enumerate(cells):
                     item = QTableWidgetItem(text)
-                    item.setToolTip(text)
+                    item.setToolTip(tip)
                     if c == 2:
-                        item.setForeground(Qt.GlobalColor.darkGreen if b.within_limits else Qt.GlobalColor.red)
+                        item.setForeground(QColor(palette.OK if b.within_limits else palette.AT))
+                    elif c == 1 and not reaches:
+                        item.setForeground(QColor(palette.AT))  # and "misses by …" in words
+                    elif c == 3 and s_level != "ok":
+                        item.setForeground(QColor(palette.LEVEL_COLOURS[s_level]))
+                    if c in (0, 3, 4):
+                        item.setTextAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
                     self.table.setItem(r, c, item)
             self.table.clearSelection()
-        self.table.setColumnWidth(1, min(260, max(120, self.table.sizeHintForColumn(1))))
+        self._fit_columns()
         level, text = words.ik_summary(chain, st.ik)
+        tip = words.ik_details(st.ik)
         if st.ik is None and st.target is not None:
             level, text = ("ok", "Solving…" if ikbridge.available() else f"Not solved: {ikbridge.IK_MISSING}.")
         elif st.target is None:
             level, text = "ok", "No target. Type a tool pose above or press 'Take current pose'."
         self._say(level, text)
+        self.summary.setToolTip(tip)
         self.apply_button.setEnabled(False)
+        self._show_details()
+
+    def _fit_columns(self) -> None:
+        """Numbers and verdicts as wide as their text (within a cap, then they wrap); the label gets the rest."""
+        for c, cap in ((2, LIMIT_COL_MAX), (3, MANIP_COL_MAX)):
+            head = self.table.horizontalHeader().sectionSizeFromContents(c).width()
+            want = max(head, self.table.sizeHintForColumn(c) if self.table.rowCount() else 0)
+            self.table.setColumnWidth(c, min(cap, want))
+        self.table.resizeRowsToContents()
+
+    def resizeEvent(self, ev):
+        super().resizeEvent(ev)
+        self.table.resizeRowsToContents()  # the label column's width changed: its wrapping too
+
+    def details_text(self, i: int) -> str:
+        """Branch ``i`` in one or two lines: verdict with every violation, singularity figures, largest move."""
+        st = self.state
+        chain = st.chain
+        b = st.branches[i]
+        w_n, kappa = self._metrics[i] if i < len(self._metrics) else (float("nan"), float("nan"))
+        parts = [f"Branch {i + 1}"]
+        if not getattr(b, "reaches", True):
+            parts.append(words.miss_words(chain, b, bool(getattr(st.ik, "position_only", False))))
+        if b.within_limits:
+            parts.append("every joint within its limits")
+        else:
+            parts.append("BEYOND LIMITS: " + "; ".join(words.all_violations(chain, b)))
+        level, s_words = words.singularity_words(kappa)
+        parts.append(f"manipulability {words.manipulability_text(w_n)}, condition {words.fmt(kappa, 1)} ({s_words})")
+        joint, size = words.largest_move_parts(chain, st.q, b.q)
+        parts.append(f"largest move from here: {joint} by {size}")
+        return " · ".join(parts) + "."
+
+    def _show_details(self) -> None:
+        st = self.state
+        i = st.hovered if st.hovered >= 0 else st.selected
+        if 0 <= i < len(st.branches):
+            self.details.setText(self.details_text(i))
+            b = st.branches[i]
+            bad = not (b.within_limits and getattr(b, "reaches", True))
+            self.details.setStyleSheet(f"color: {palette.AT}" if bad else "")
+        elif st.branches:
+            self.details.setText("Hover or select a branch to see it in full and as a ghost; "
+                                 "Enter, double-click or 'Apply branch' moves the arm there.")
+            self.details.setStyleSheet(f"color: {palette.MUTED}")
+        else:
+            self.details.setText("")
+
+    def _refresh_moves(self) -> None:
+        """The largest-move column follows the arm (it is measured from the present pose)."""
+        st = self.state
+        for r, b in enumerate(st.branches):
+            item = self.table.item(r, 4)
+            if item is None:
+                continue
+            joint, size = words.largest_move_parts(st.chain, st.q, b.q)
+            item.setText(size)
+            item.setToolTip(f"largest joint move from the present pose: {joint} by {size}")
+        self._show_details()
 
     def _from_selection(self) -> None:
         rows = {i.row() for i in self.table.selectedIndexes()}
@@ -299,9 +418,15 @@ class TargetPanel(QWidget):
             self._fill_table()
         elif field == "ik":
             self._fill_table()
-        elif field == "selected" and st.writer is not self:
-            with QSignalBlocker(self.table):
-                self.table.clearSelection()
-                if st.selected >= 0:
-                    self.table.selectRow(st.selected)
-            self.apply_button.setEnabled(st.selected >= 0)
+        elif field == "selected":
+            if st.writer is not self:
+                with QSignalBlocker(self.table):
+                    self.table.clearSelection()
+                    if st.selected >= 0:
+                        self.table.selectRow(st.selected)
+                self.apply_button.setEnabled(st.selected >= 0)
+            self._show_details()
+        elif field == "hovered":
+            self._show_details()
+        elif field == "q" and st.branches:
+            self._refresh_moves()

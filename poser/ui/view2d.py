@@ -44,15 +44,17 @@ class View2D(QWidget):
             p.setMinimumSize(160, 120)
             p.setAspectLocked(True)
             p.showGrid(x=True, y=True, alpha=0.3)
-            p.setLabel("bottom", f"{'−' if sign < 0 else ''}{axis_names[h]}", units=None)
-            p.setLabel("left", axis_names[v])
-            p.getAxis("bottom").setLabel(f"{'−' if sign < 0 else ''}{axis_names[h]} ({L})")
-            p.getAxis("left").setLabel(f"{axis_names[v]} ({L})")
+            for side, text in (("bottom", f"{'−' if sign < 0 else ''}{axis_names[h]} ({L})"),
+                               ("left", f"{axis_names[v]} ({L})")):
+                axis = p.getAxis(side)
+                # ticks in the arm's own unit: pyqtgraph would otherwise rescale them (700 on an axis in m)
+                axis.enableAutoSIPrefix(False)
+                axis.setLabel(text)
             lay.addWidget(p, 1 + k // 2, k % 2)
             items = {
                 "ghosts": [],
                 "link": p.plot(pen=pg.mkPen(palette.LINK, width=6)),
-                "joints": pg.ScatterPlotItem(size=11, pen=pg.mkPen(palette.TEXT), brush=pg.mkBrush(palette.REVOLUTE)),
+                "joints": pg.ScatterPlotItem(size=12, pen=pg.mkPen(palette.TEXT), brush=pg.mkBrush(palette.REVOLUTE)),
                 "tool": p.plot(pen=None, symbol="+", symbolSize=14, symbolPen=pg.mkPen(palette.TOOL, width=2)),
                 "target": pg.ScatterPlotItem(size=14, symbol="o", pen=pg.mkPen(palette.TARGET, width=2), brush=None),
                 "trail": p.plot(pen=pg.mkPen(palette.TRAIL, width=1.5)),
@@ -64,8 +66,8 @@ class View2D(QWidget):
         legend = QLabel(
             "<b>Key</b><br>"
             f"<span style='color:{palette.LINK}'>━━</span> links<br>"
-            f"<span style='color:{palette.REVOLUTE}'>●</span> revolute joint &nbsp; "
-            f"<span style='color:{palette.PRISMATIC}'>●</span> prismatic joint<br>"
+            f"<span style='color:{palette.REVOLUTE}'>●</span> rotary joint (circle) &nbsp; "
+            f"<span style='color:{palette.PRISMATIC}'>■</span> linear joint (square)<br>"
             f"<span style='color:{palette.TOOL}'>✚</span> tool point &nbsp; "
             f"<span style='color:{palette.TARGET}'>○</span> target<br>"
             f"<span style='color:{palette.GHOST}'>━━</span> IK branches (hovered or selected: darker)<br>"
@@ -103,6 +105,7 @@ class View2D(QWidget):
         self._trail.add(d.frames[-1, :3, 3])
         kinds = d.kinds
         brushes = [pg.mkBrush(palette.REVOLUTE if k == "revolute" else palette.PRISMATIC) for k in kinds]
+        symbols = ["o" if k == "revolute" else "s" for k in kinds]  # shape, not only colour, tells the type
         drawings, index = geometry.distinct_drawings(st.chain, [b.q for b in st.branches])
         ghost_paths = [self._path(d) for d in drawings[:12]]
         strong = st.hovered if st.hovered >= 0 else st.selected
@@ -111,7 +114,7 @@ class View2D(QWidget):
             x, y = self._proj(path, h, v, sign)
             items["link"].setData(x, y, connect="finite")
             jx, jy = self._proj(d.joint_origins, h, v, sign)
-            items["joints"].setData(jx, jy, brush=brushes)
+            items["joints"].setData(jx, jy, brush=brushes, symbol=symbols)
             tx, ty = self._proj(d.frames[-1, :3, 3], h, v, sign)
             items["tool"].setData(tx, ty)
             if st.option("show_trail"):

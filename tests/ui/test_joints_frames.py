@@ -100,7 +100,10 @@ def test_sliding_joints_have_their_own_step_in_the_length_unit(make_window, qtbo
     assert win.joints.step_spin.suffix() == " rad" and win.joints.step_length_spin.suffix() == " m"
     assert win.state.option("step") == 0.01 and win.state.option("step_length") == 0.001
     slide = win.joints.rows[2]
-    assert slide.kind.text() == "prismatic (slides)"
+    # the type in a technician's words with the unit the value is in; the file's term stays in the tooltip
+    assert slide.kind.text() == "linear joint, m"
+    assert slide.kind.toolTip().startswith("prismatic joint: slides along its axis")
+    assert win.joints.rows[1].kind.text() == "rotary joint, rad"
     before = win.state.q_user[2]
     qtbot.keyClick(slide.slider, Qt.Key.Key_Right)
     assert win.state.q_user[2] == pytest.approx(before + 0.001)
@@ -125,7 +128,7 @@ def test_frames_panel_shows_and_copies_a_links_matrices(make_window, qtbot):
     chain, q = win.state.chain, win.state.q
     A3 = link_transforms(chain, q)[2]
     W3 = chain.frames(q)[3]
-    assert win.frames.a_box.title() == "A_3: frame 2 → frame 3"
+    assert win.frames.a_box.title() == "A₃: frame 2 → frame 3"  # a subscript reads as in print
     assert win.frames.a_matrix.text() == format_matrix(A3, "text", 4)
     assert win.frames.w_matrix.text() == format_matrix(W3, "text", 4)
     ns = {"np": np}

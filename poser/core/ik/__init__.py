@@ -43,7 +43,8 @@ import numpy as np
 
 from poser.core.errors import PoserValueError
 from poser.core.ik import _closed, _labels, _numeric, _scalar
-from poser.core.ik._geometry import TWO_PI, chain_lines, cumulative, pose_and_jacobian, wrap
+from poser.core.ik._evaluate import evaluator
+from poser.core.ik._geometry import TWO_PI, chain_lines, pose_and_jacobian, wrap
 from poser.core.transforms import rotation_error
 
 __all__ = ["solve", "solve_batch", "IKResult", "Branch", "Violation", "BatchResult", "structure_of"]
@@ -167,19 +168,29 @@ def _ranks(chain):
 
 
 def _check_inputs(chain, xyz, R, near):
+    # plain floats: numpy calls on three or nine numbers cost more than the arithmetic
     xyz = np.asarray(xyz, dtype=float)
     if xyz.shape != (3,):
         raise PoserValueError(f"xyz must have shape (3,), got shape {xyz.shape}")
-    if not np.all(np.isfinite(xyz)):
+    if not all(map(math.isfinite, xyz.tolist())):
         raise PoserValueError(f"xyz must be finite, got {xyz.tolist()}")
     if R is not None:
         R = np.asarray(R, dtype=float)
         if R.shape != (3, 3):
             raise PoserValueError(f"R must have shape (3, 3) or be None, got shape {R.shape}")
-        if not np.all(np.isfinite(R)):
+        (a, b, c), (d, e, f), (g, h, i) = R.tolist()
+        if not all(map(math.isfinite, (a, b, c, d, e, f, g, h, i))):
             raise PoserValueError("R must be finite")
-        err = float(np.abs(R.T @ R - np.eye(3)).max())
-        if err > 1e-6 or np.linalg.det(R) < 0:
+        # largest entry of |R^T R - I|, and det R
+        err = max(
+            abs(a * a + d * d + g * g - 1.0),
+            abs(b * b + e * e + h * h - 1.0),
+            abs(c * c + f * f + i * i - 1.0),
+            abs(a * b + d * e + g * h),
+            abs(a * c + d * f + g * i),
+            abs(b * c + e * f + h * i),
+        )
+        if err > 1e-6 or a * (e * i - f * h) - b * (d * i - f * g) + c * (d * h - e * g) < 0:
             raise PoserValueError("R must be a rotation matrix (orthonormal, determinant +1)")
         if err > 1e-13:  # tidy a slightly drifted rotation
             U, _, Vt = np.linalg.svd(R)
@@ -188,7 +199,7 @@ def _check_inputs(chain, xyz, R, near):
         near = np.asarray(near, dtype=float)
         if near.shape != (chain.n,):
             raise PoserValueError(f"near must have shape ({chain.n},), got shape {near.shape}")
-        if not np.all(np.isfinite(near)):
+        if not all(map(math.isfinite, near.tolist())):
             raise PoserValueError(f"near must be finite, got {near.tolist()}")
     return xyz, R, near
 
@@ -211,6 +222,39 @@ def _fmt_joint(chain, i, v):
 
 # -- extra turns and limits ----------------------------------------------------------------------
 
+_new = object.__new__
+
+
+class _Context:
+    """Per-chain constants of the solver's bookkeeping (see :func:`_context`)."""
+
+    def __init__(self, chain):
+        n = chain.n
+        rev, lo, hi = chain.revolute, chain.lower, chain.upper
+        self.n = n
+        self.rev = rev
+        self.rev_l = [bool(r) for r in rev]
+        self.all_rev = bool(rev.all())
+        self.lo_l, self.hi_l = lo.tolist(), hi.tolist()
+        self.mid = 0.5 * (lo + hi)
+        tol = 1e-9 * np.where(rev, 1.0, np.maximum(1.0, hi - lo))
+        self.below, self.above = lo - tol, hi + tol  # beyond these a value breaks a limit
+        self.names = chain.names
+        self.wide = tuple(i for i in range(n) if rev[i] and hi[i] - lo[i] > TWO_PI + 1e-9)
+        self.home = np.array(chain.home, float)
+        self.home.setflags(write=False)
+        self.no_turns = (0,) * n
+        self.turn_words = {}  # turns tuple → words
+
+
+def _context(chain) -> _Context:
+    """The :class:`_Context` of ``chain`` (cached on the chain)."""
+    cx = chain.__dict__.get("_ik_context")
+    if cx is None:
+        cx = _Context(chain)
+        chain._ik_context = cx
+    return cx
+
 
 def _expand_turns(chain, Q, ref, hit, max_per_branch=8):
     """Place revolute values in their ranges; a range over a full turn yields every turn that fits.
@@ -219,43 +263,49 @@ def _expand_turns(chain, Q, ref, hit, max_per_branch=8):
     middle of its range (inside it when any turn fits; otherwise the one
     with the smallest excess).  A joint with a wider range gives, for rows
     with ``hit`` (they reach the target), every turn that fits as a
-    separate row; other rows keep the turn nearest ``ref``.  Returns a list
-    of (q, turns, source index); turns count from the value in (-π, π].
+    separate row; other rows keep the turn nearest ``ref``.  Returns the
+    rows (E, n), their turns (list of tuples; turns count from the value in
+    (-π, π]) and the index of the row of ``Q`` each came from.
     """
-    lo, hi, rev = chain.lower, chain.upper, chain.revolute
+    cx = _context(chain)
     eps = 1e-9
-    if len(Q) == 0:
-        return []
-    V = np.where(rev, wrap(Q), Q)
-    mid = 0.5 * (lo + hi)
-    k0 = np.where(rev, np.round((mid - V) / TWO_PI), 0.0)
-    base = V + k0 * TWO_PI
-    wide = [i for i in range(chain.n) if rev[i] and hi[i] - lo[i] > TWO_PI + eps]
+    K = len(Q)
+    if K == 0:
+        return np.zeros((0, cx.n)), [], []
+    if cx.all_rev:
+        V = wrap(Q)
+        base = V + np.round((cx.mid - V) / TWO_PI) * TWO_PI
+    else:
+        V = np.where(cx.rev, wrap(Q), Q)
+        base = V + np.where(cx.rev, np.round((cx.mid - V) / TWO_PI), 0.0) * TWO_PI
+    wide = cx.wide
     if not wide:
-        return [(base[b].copy(), (0,) * chain.n, b) for b in range(len(Q))]
-    out = []
-    Vl = V.tolist()
-    lo_l, hi_l, ref_l = lo.tolist(), hi.tolist(), np.asarray(ref, float).tolist()
-    for b in range(len(Q)):
-        options = []
-        for i in wide:
-            v = Vl[b][i]
-            ks = range(math.floor((lo_l[i] - v) / TWO_PI), math.ceil((hi_l[i] - v) / TWO_PI) + 1)
-            inside = [k for k in ks if lo_l[i] - eps <= v + k * TWO_PI <= hi_l[i] + eps]
-            if not hit[b]:
-                inside = [min(inside, key=lambda k: (k != 0, abs(v + k * TWO_PI - ref_l[i])))]
-            options.append(inside)
+        return base, [cx.no_turns] * K, list(range(K))
+    rows, turns_out, src = [], [], []
+    Vl, Bl = V.tolist(), base.tolist()
+    lo_l, hi_l, ref_l = cx.lo_l, cx.hi_l, np.asarray(ref, float).tolist()
+    hit = np.asarray(hit).tolist()
+    for b in range(K):
+        vb = Vl[b]
         combos = [()]
-        for opts in options:
-            combos = [c + (k,) for c in combos for k in opts][:max_per_branch]
+        for i in wide:
+            v, lo_i, hi_i = vb[i], lo_l[i], hi_l[i]
+            ks = range(math.floor((lo_i - v) / TWO_PI), math.ceil((hi_i - v) / TWO_PI) + 1)
+            inside = [k for k in ks if lo_i - eps <= v + k * TWO_PI <= hi_i + eps]
+            if not hit[b]:
+                r = ref_l[i]
+                inside = [min(inside, key=lambda k: (k != 0, abs(v + k * TWO_PI - r)))]  # noqa: B023
+            combos = [c + (k,) for c in combos for k in inside][:max_per_branch]
         for c in combos:
-            q = base[b].copy()
-            turns = [0] * chain.n
+            q = Bl[b][:]
+            turns = [0] * cx.n
             for i, k in zip(wide, c):
-                q[i] = Vl[b][i] + k * TWO_PI
+                q[i] = vb[i] + k * TWO_PI
                 turns[i] = k
-            out.append((q, tuple(turns), b))
-    return out
+            rows.append(q)
+            turns_out.append(tuple(turns))
+            src.append(b)
+    return np.array(rows), turns_out, src
 
 
 def _violations(chain, q):
@@ -274,76 +324,95 @@ def _violations_mask(chain, Q):
 
 def _violations_many(chain, Q):
     """Violation tuples of configurations ``Q`` (K, n); limits are met within 1e-9 (rad or 1e-9 of the stroke)."""
-    lo, hi = chain.lower, chain.upper
-    tol = 1e-9 * np.where(chain.revolute, 1.0, np.maximum(1.0, hi - lo))
-    below = Q < lo - tol
-    above = Q > hi + tol
+    cx = _context(chain)
+    below = Q < cx.below
+    beyond = below | (Q > cx.above)
+    bad = beyond.any(axis=1).tolist()
+    if not any(bad):
+        return [()] * len(bad)
     out = []
-    bad = (below | above).any(axis=1)
-    names = chain.names
-    for k in range(len(Q)):
-        if not bad[k]:
+    names, lo_l, hi_l = cx.names, cx.lo_l, cx.hi_l
+    Ql, below, beyond = Q.tolist(), below.tolist(), beyond.tolist()
+    for k, b in enumerate(bad):
+        if not b:
             out.append(())
             continue
         vs = []
-        for i in np.flatnonzero(below[k] | above[k]):
-            v = float(Q[k, i])
-            if below[k, i]:
-                vs.append(Violation(int(i), names[i], "lower", float(lo[i]), v, float(lo[i] - v)))
-            else:
-                vs.append(Violation(int(i), names[i], "upper", float(hi[i]), v, float(v - hi[i])))
+        qk, bk = Ql[k], below[k]
+        for i, x in enumerate(beyond[k]):
+            if x:
+                v = qk[i]
+                if bk[i]:
+                    vs.append(_violation(i, names[i], "lower", lo_l[i], v, lo_l[i] - v))
+                else:
+                    vs.append(_violation(i, names[i], "upper", hi_l[i], v, v - hi_l[i]))
         out.append(tuple(vs))
     return out
 
 
+def _violation(joint, name, side, limit, value, excess):
+    """A :class:`Violation` (the same object ``Violation(...)`` makes, made faster)."""
+    v = _new(Violation)
+    v.__dict__.update(joint=joint, name=name, side=side, limit=limit, value=value, excess=excess)
+    return v
+
+
 def _turn_words(chain, turns):
-    parts = []
-    names = chain.names
-    for i, k in enumerate(turns):
-        if k:
-            parts.append(f"{names[i]} {k:+d} turn" + ("s" if abs(k) > 1 else ""))
-    return parts
+    """Words for the extra turns (a tuple of int per joint), e.g. ["J6 flange +1 turn"] (cached per chain)."""
+    cache = _context(chain).turn_words
+    words = cache.get(turns)
+    if words is None:
+        names = chain.names
+        words = []
+        for i, k in enumerate(turns):
+            if k:
+                words.append(f"{names[i]} {k:+d} turn" + ("s" if abs(k) > 1 else ""))
+        if len(cache) < 4096:
+            cache[turns] = words
+    return words
 
 
 def _metrics(chain, Q, xyz, R):
-    """Position error, orientation error, manipulability (K,) and the cumulative motions of Q (K, n)."""
-    L = chain_lines(chain)
-    cum = cumulative(L, Q)
-    p, Rq, J = pose_and_jacobian(L, Q, cum)
-    perr = np.sqrt(np.sum((p - xyz) ** 2, axis=1))
-    if R is None:
-        oerr = np.zeros(len(Q))
-    else:
-        oerr = rotation_error(Rq, R[None])
-    man = np.prod(np.linalg.svd(J, compute_uv=False), axis=-1)
-    man = np.where(np.isfinite(man), man, 0.0)
-    return perr, oerr, man, cum
+    """Position error, orientation error, manipulability (K,) and the :class:`_evaluate.Frames` of Q (K, n)."""
+    return evaluator(chain).metrics(Q, xyz, R)
+
+
+def _branch(**fields):
+    """A :class:`Branch` from its fields (all given; the same object ``Branch(**fields)`` makes, made faster)."""
+    b = _new(Branch)
+    b.__dict__.update(fields)
+    return b
 
 
 def _branches(chain, expanded, configs, metrics, near, tol, extra_words=None):
-    """Branch objects for the expanded rows (q, turns, source) of base configurations with ``metrics``."""
-    out = []
-    if not expanded:
-        return out
+    """Branch objects for expanded rows (Qe (E, n), turns, source index) of base configurations with ``metrics``."""
+    Qe, turns, src = expanded
+    if not src:
+        return []
+    Qe.setflags(write=False)  # each branch's q is a (read-only) row of Qe
     perr, oerr, man = metrics[:3]
-    Qe = np.array([e[0] for e in expanded])
     viol = _violations_many(chain, Qe)
-    dist = None if near is None else np.sqrt(np.sum((Qe - near) ** 2, axis=1)).tolist()
+    dist = None if near is None else np.sqrt(((Qe - near) ** 2).sum(axis=1)).tolist()
     reach = ((perr <= tol[0]) & (oerr <= tol[1])).tolist()
     perr, oerr, man = perr.tolist(), oerr.tolist(), man.tolist()
-    for j, (q, turns, k) in enumerate(expanded):
-        v = viol[j]
-        cfg = configs[k]
+    cfgs = []
+    for k, cfg in enumerate(configs):
         if extra_words is not None and extra_words[k]:
             cfg = f"{cfg} · {extra_words[k]}" if cfg else extra_words[k]
-        words = [cfg] if cfg else []
-        if any(turns):
-            words += _turn_words(chain, turns)
-        q.setflags(write=False)
+        cfgs.append(cfg)
+    out = []
+    for j, k in enumerate(src):
+        cfg = cfgs[k]
+        t = turns[j]
+        if any(t):
+            label = " · ".join(([cfg] if cfg else []) + _turn_words(chain, t))
+        else:
+            label = cfg or "single configuration"
+        v = viol[j]
         out.append(
-            Branch(
-                q=q,
-                label=" · ".join(words) or "single configuration",
+            _branch(
+                q=Qe[j],
+                label=label,
                 within_limits=not v,
                 violations=v,
                 position_error=perr[k],
@@ -352,7 +421,7 @@ def _branches(chain, expanded, configs, metrics, near, tol, extra_words=None):
                 distance=None if dist is None else dist[j],
                 reaches=reach[k],
                 configuration=cfg or "single configuration",
-                turns=tuple(turns),
+                turns=t,
             )
         )
     return out
@@ -361,14 +430,33 @@ def _branches(chain, expanded, configs, metrics, near, tol, extra_words=None):
 def _dedupe(chain, Q, tol):
     """Indices of rows of Q that differ from every earlier kept row (wrapped angles, scaled lengths)."""
     L = chain_lines(chain)
-    if len(Q) < 2:
-        return list(range(len(Q)))
-    d = Q[:, None, :] - Q[None, :, :]
-    d = np.where(L.revolute, wrap(d), d / L.scale)
-    close = np.max(np.abs(d), axis=-1) < tol
+    K = len(Q)
+    if K < 2:
+        return list(range(K))
     keep = []
-    for k in range(len(Q)):
-        if not any(close[k, j] for j in keep):
+    if K > 16:  # many rows (numerical seeds): all pairs at once
+        d = Q[:, None, :] - Q[None, :, :]
+        d = np.where(L.revolute, wrap(d), d / L.scale)
+        close = (np.max(np.abs(d), axis=-1) < tol).tolist()
+        for k in range(K):
+            if not any(close[k][j] for j in keep):
+                keep.append(k)
+        return keep
+    # a few rows (closed form): plain floats, stopping at the first joint that differs
+    rows = Q.tolist()
+    rev = _context(chain).rev_l
+    scale, pi = L.scale, math.pi
+    for k, qk in enumerate(rows):
+        for j in keep:
+            qj = rows[j]
+            for i, r in enumerate(rev):
+                d = qk[i] - qj[i]
+                d = abs(pi - (pi - d) % TWO_PI) if r else abs(d / scale)
+                if not d < tol:
+                    break
+            else:
+                break  # close to a kept row
+        else:
             keep.append(k)
     return keep
 
@@ -456,7 +544,7 @@ def solve(chain, xyz, R=None, near=None, *, time_budget=0.05, **options) -> IKRe
 def _solve(chain, xyz, R, near, tol, deadline, method, options):
     L = chain_lines(chain)
     n = chain.n
-    ref = near if near is not None else np.array(chain.home, float)
+    ref = near if near is not None else _context(chain).home
     position_only = R is None
     rp, rf = _ranks(chain)
     redundant = n > (rp if position_only else rf)
@@ -578,7 +666,7 @@ def _closest(chain, xyz, R, ref, near, Q, tol, deadline, fmt_angle):
     qb = q[best]
     metrics = _metrics(chain, qb[None], xyz, R)
     cfg = _labels.describe(chain, qb[None], fmt_angle, metrics[3])
-    br = _branches(chain, [(qb.copy(), (0,) * chain.n, 0)], cfg, metrics, near, tol)[0]
+    br = _branches(chain, (qb[None].copy(), [(0,) * chain.n], [0]), cfg, metrics, near, tol)[0]
     nearest = None
     if pe[best] > tol[0]:
         if R is None:

@@ -30,7 +30,6 @@ from poser.core.ik._geometry import (
     chain_lines,
     common_perpendicular,
     cross,
-    cumulative,
     meeting_point,
     parallel,
     wrap,
@@ -134,24 +133,22 @@ def plan(chain) -> _Plan:
     return p
 
 
-def _place(R, t, pt):
-    x, k = pt
-    return np.einsum("kij,j->ki", R[:, k], x) + t[:, k]
-
-
-def describe(chain, Q, fmt_angle, cum=None) -> list[str]:
+def describe(chain, Q, fmt_angle, frames=None) -> list[str]:
     """Words for each configuration in ``Q`` (K, n) (without extra-turn words).
 
-    ``cum`` is ``cumulative(chain_lines(chain), Q)`` when already computed.
+    ``frames`` is ``evaluator(chain).frames(Q)`` (:mod:`poser.core.ik._evaluate`) when already computed.
     """
     Q = np.atleast_2d(Q)
     pl = plan(chain)
     L: Lines = chain_lines(chain)
     if pl.S is None or pl.W is None:
         return [_fallback(chain, q) for q in Q]
-    R, t = cumulative(L, Q) if cum is None else cum
-    S, W = _place(R, t, pl.S), _place(R, t, pl.W)
-    E = _place(R, t, pl.E) if pl.E is not None else None
+    if frames is None:
+        from poser.core.ik._evaluate import evaluator
+
+        frames = evaluator(chain).frames(np.asarray(Q, float))
+    S, W = frames.point("S"), frames.point("W")
+    E = frames.point("E") if pl.E is not None else None
     tiny = 1e-6 * L.scale
     cols = []  # one list of words per descriptor, each K long
     if pl.planar:
@@ -177,7 +174,7 @@ def describe(chain, Q, fmt_angle, cum=None) -> list[str]:
         return [" · ".join(ws) for ws in zip(*cols)]
     w0 = L.w[0]
     o0 = L.o[0]
-    facing = np.einsum("kij,j->ki", R[:, 1], pl.facing)
+    facing = frames.point("facing")
     rel = W - o0
     off_axis = (np.linalg.norm(rel - np.outer(rel @ w0, w0), axis=1) <= tiny).tolist()
     front = (np.sum(facing * rel, axis=1) >= 0).tolist()
@@ -210,7 +207,7 @@ def describe(chain, Q, fmt_angle, cum=None) -> list[str]:
             [("arm stretched" if o_ else "arm folded") if st_ else b for st_, o_, b in zip(straight, out_, bent)]
         )
     elif E is not None:
-        wk = np.einsum("kij,j->ki", R[:, pl.elbow_joint], L.w[pl.elbow_joint])
+        wk = frames.point("wk")
         fwd = (np.sum(wk * (W - S), axis=1) >= 0).tolist()
         cols.append(["boom forward" if f else "boom reversed" for f in fwd])
     if pl.wrist_joint is not None:

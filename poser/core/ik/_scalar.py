@@ -36,16 +36,45 @@ def _cross(a, b):
 
 
 def _rot(w, th, v):
-    """Rotate direction ``v`` about unit ``w`` by ``th``."""
+    """Rotate direction ``v`` about unit ``w`` by ``th`` (Rodrigues, written out: this runs dozens of times a solve)."""
     c, s = cos(th), sin(th)
-    k = _cross(w, v)
-    kk = _cross(w, k)
+    w0, w1, w2 = w
+    v0, v1, v2 = v
+    k0, k1, k2 = w1 * v2 - w2 * v1, w2 * v0 - w0 * v2, w0 * v1 - w1 * v0
     c1 = 1.0 - c
-    return (v[0] + s * k[0] + c1 * kk[0], v[1] + s * k[1] + c1 * kk[1], v[2] + s * k[2] + c1 * kk[2])
+    return (
+        v0 + s * k0 + c1 * (w1 * k2 - w2 * k1),
+        v1 + s * k1 + c1 * (w2 * k0 - w0 * k2),
+        v2 + s * k2 + c1 * (w0 * k1 - w1 * k0),
+    )
+
+
+def _rot2(w, th, v, x):
+    """:func:`_rot` of two directions by the same turn."""
+    c, s = cos(th), sin(th)
+    w0, w1, w2 = w
+    c1 = 1.0 - c
+    v0, v1, v2 = v
+    k0, k1, k2 = w1 * v2 - w2 * v1, w2 * v0 - w0 * v2, w0 * v1 - w1 * v0
+    a = (
+        v0 + s * k0 + c1 * (w1 * k2 - w2 * k1),
+        v1 + s * k1 + c1 * (w2 * k0 - w0 * k2),
+        v2 + s * k2 + c1 * (w0 * k1 - w1 * k0),
+    )
+    v0, v1, v2 = x
+    k0, k1, k2 = w1 * v2 - w2 * v1, w2 * v0 - w0 * v2, w0 * v1 - w1 * v0
+    b = (
+        v0 + s * k0 + c1 * (w1 * k2 - w2 * k1),
+        v1 + s * k1 + c1 * (w2 * k0 - w0 * k2),
+        v2 + s * k2 + c1 * (w0 * k1 - w1 * k0),
+    )
+    return a, b
 
 
 def _rot_pt(o, w, th, x):
-    return _add(o, _rot(w, th, _sub(x, o)))
+    o0, o1, o2 = o
+    r0, r1, r2 = _rot(w, th, (x[0] - o0, x[1] - o1, x[2] - o2))
+    return (o0 + r0, o1 + r1, o2 + r2)
 
 
 def _mv(M, v):
@@ -57,11 +86,18 @@ def _mv(M, v):
 
 
 def _onto(o, w, x, y, free):
-    u = _sub(x, o)
-    v = _sub(y, o)
-    num = _dot(w, _cross(u, v))
-    den = _dot(u, v) - _dot(u, w) * _dot(v, w)
-    if hypot(num, den) <= 1e-20 * (_dot(u, u) + _dot(v, v)) + 1e-300:
+    o0, o1, o2 = o
+    u0, u1, u2 = x[0] - o0, x[1] - o1, x[2] - o2
+    v0, v1, v2 = y[0] - o0, y[1] - o1, y[2] - o2
+    return _onto0(w, u0, u1, u2, v0, v1, v2, free)
+
+
+def _onto0(w, u0, u1, u2, v0, v1, v2, free):
+    """:func:`_onto` about a line through the origin, the points given by their coordinates."""
+    w0, w1, w2 = w
+    num = w0 * (u1 * v2 - u2 * v1) + w1 * (u2 * v0 - u0 * v2) + w2 * (u0 * v1 - u1 * v0)
+    den = (u0 * v0 + u1 * v1 + u2 * v2) - (u0 * w0 + u1 * w1 + u2 * w2) * (v0 * w0 + v1 * w1 + v2 * w2)
+    if hypot(num, den) <= 1e-20 * ((u0 * u0 + u1 * u1 + u2 * u2) + (v0 * v0 + v1 * v1 + v2 * v2)) + 1e-300:
         return free
     return atan2(num, den)
 
@@ -202,6 +238,9 @@ def _tuples(L: Lines, st: Structure):
                 "x": tuple(x.tolist()),
                 "ax": tuple((MRt @ x).tolist()),
             }
+            c12 = _dot(w[3], w[4])
+            cr = _cross(w[3], w[4])
+            extra["two_axes"] = (c12, c12 * c12 - 1.0, cr, _dot(cr, cr), _dot(w[5], w[4]))
         cached = (o, w, tuple(L.p0.tolist()), extra)
         object.__setattr__(L, "_scalar", cached)
     return cached
@@ -247,22 +286,51 @@ def solve_single(chain, st: Structure, P, R, ref):
         ]
     if st.kind != "pieper6":
         return None
+    return _pieper(L, st, o, w, ex, P, R, ref)
+
+
+def _pieper(L, st, o, w, ex, P, R, ref):
+    """Six-axis arm with a spherical wrist: the stage places the wrist centre, the wrist the tool axes."""
     Pc = _add(P, _mv(R, ex["cvec"]))
     y0 = _mv(R, ex["a6"])
     x0 = _mv(R, ex["ax"])
-    x = ex["x"]
+    x0_, x1_, x2_ = ex["x"]
+    w0, w1, w2, w3, w4, w5 = w[:6]
+    r0, r1, r2 = L.revolute[:3].tolist()
+    # constants of the wrist's two-axes subproblem (see _two_axes)
+    c12, den, cr, ncr2, w2x = ex["two_axes"]
+    cr0, cr1, cr2 = cr
+    a0, a1, a2 = w3
+    b0, b1, b2 = w4
+    ref3 = ref[3]
     out = []
     for (q1, q2, q3), exP in _stage(o, w, st.stage, ex["c"], Pc, ref):
         y, xr = y0, x0
-        for i, qi in enumerate((q1, q2, q3)):
-            if L.revolute[i]:
-                y = _rot(w[i], -qi, y)
-                xr = _rot(w[i], -qi, xr)
-        sols, exW, degen = _two_axes(w[3], w[4], w[5], y)
-        for t4, t5 in sols:
-            if degen:
-                t4 = ref[3]
-            z = _rot(w[4], -t5, _rot(w[3], -t4, xr))
-            t6 = _onto((0.0, 0.0, 0.0), w[5], x, z, 0.0)
-            out.append(([q1, q2, q3, t4, t5, t6], exP and exW))
+        if r0:
+            y, xr = _rot2(w0, -q1, y, xr)
+        if r1:
+            y, xr = _rot2(w1, -q2, y, xr)
+        if r2:
+            y, xr = _rot2(w2, -q3, y, xr)
+        # _two_axes(w3, w4, w5, y), written out
+        y0_, y1_, y2_ = y
+        w1y = y0_ * a0 + y1_ * a1 + y2_ * a2
+        alpha = (c12 * w2x - w1y) / den
+        beta = (c12 * w1y - w2x) / den
+        g2 = (1.0 - alpha * alpha - beta * beta - 2.0 * alpha * beta * c12) / ncr2
+        exW = g2 >= -1e-10
+        g = sqrt(max(g2, 0.0))
+        z0, z1, z2 = a0 * alpha + b0 * beta, a1 * alpha + b1 * beta, a2 * alpha + b2 * beta
+        # the first intermediate vector, for the degeneracy test
+        s0, s1, s2 = z0 + cr0 * g, z1 + cr1 * g, z2 + cr2 * g
+        zw = s0 * a0 + s1 * a1 + s2 * a2
+        degen = sqrt(max((s0 * s0 + s1 * s1 + s2 * s2) - zw * zw, 0.0)) < 1e-9
+        ok = exP and exW
+        for sg in (g, -g):
+            s0, s1, s2 = z0 + cr0 * sg, z1 + cr1 * sg, z2 + cr2 * sg
+            t4 = ref3 if degen else _onto0(w3, s0, s1, s2, y0_, y1_, y2_, 0.0)
+            t5 = _onto0(w4, w5[0], w5[1], w5[2], s0, s1, s2, 0.0)
+            zz = _rot(w4, -t5, _rot(w3, -t4, xr))
+            t6 = _onto0(w5, x0_, x1_, x2_, zz[0], zz[1], zz[2], 0.0)
+            out.append(([q1, q2, q3, t4, t5, t6], ok))
     return out
