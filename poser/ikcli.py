@@ -160,9 +160,15 @@ def run_ik(args, spec, chain) -> int:
         # table above holds only real solutions.
         print(f"Configurations that do not reach it ({len(missing)}):")
         shown = 8 if reaching else 4
+        tol_p, tol_r = result.tolerance
         for b in missing[:shown]:
             limits = "" if b.within_limits else "; also beyond " + ", ".join(f"{v.name} {v.side}" for v in b.violations)
-            print(f"  {b.label} — misses by {b.position_error:.4g} {Lu}{limits}")
+            miss = []
+            if b.position_error > tol_p:
+                miss.append(f"the position by {b.position_error:.4g} {Lu}")
+            if b.orientation_error > tol_r:
+                miss.append(f"the orientation by {float(units.angle_out(b.orientation_error)):.4g} {A}")
+            print(f"  {b.label} — misses {' and '.join(miss) or 'by a hair'}{limits}")
         if len(missing) > shown:
             print(f"  … and {len(missing) - shown} more (see --json)")
     if result.closest is not None:
