@@ -359,6 +359,15 @@ class TargetPanel(QWidget):
 
     def _show_details(self) -> None:
         st = self.state
+        tip = "move the arm to the selected branch (Enter in the list does the same)"
+        if 0 <= st.selected < len(st.branches):
+            b = st.branches[st.selected]
+            tip = f"move the arm to branch {st.selected + 1}"
+            if not b.within_limits:
+                tip += " — BEYOND joint limits: " + "; ".join(words.all_violations(st.chain, b))
+            if not getattr(b, "reaches", True):
+                tip += " — it does not reach the target"
+        self.apply_button.setToolTip(tip)
         i = st.hovered if st.hovered >= 0 else st.selected
         if 0 <= i < len(st.branches):
             self.details.setText(self.details_text(i))
