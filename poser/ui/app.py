@@ -78,6 +78,11 @@ def run(args) -> int:
     QCoreApplication.setAttribute(Qt.ApplicationAttribute.AA_ShareOpenGLContexts)
     app = QApplication.instance() or QApplication([sys.argv[0] if sys.argv else "poser"])
     app.setApplicationName("Poser")
+    icon = default_arm().parent.parent / "resources" / "poser-icon.svg"
+    if icon.exists():
+        from PySide6.QtGui import QIcon
+
+        app.setWindowIcon(QIcon(str(icon)))
     app.setOrganizationName("Poser")
     from poser.ui.main_window import MainWindow
 

@@ -132,3 +132,20 @@ def test_the_3d_view_keeps_drawing_when_its_panel_floats(make_window, qtbot):
     assert win.render_now()
     dock.setFloating(False)
     assert win.render_now()
+
+
+def test_window_icon_is_ours(tmp_path, qapp):
+    """The application icon comes from resources/poser-icon.svg (drawn for Poser)."""
+    from types import SimpleNamespace
+
+    from PySide6.QtWidgets import QApplication
+
+    from poser.ui.app import default_arm
+
+    icon = default_arm().parent.parent / "resources" / "poser-icon.svg"
+    assert icon.exists()
+    args = SimpleNamespace(arm=None, snapshot=str(tmp_path / "s.png"), joints=None, target=None, size="640x480")
+    from poser.ui.app import run
+
+    assert run(args) == 0
+    assert not QApplication.windowIcon().isNull()
