@@ -33,7 +33,18 @@ from poser.core.errors import PoserError
 from poser.core.transforms import from_xyz_rpy
 from poser.core.units import ANGLE_UNITS, LENGTH_UNITS, Units
 
-__all__ = ["ArmSpec", "JointSpec", "Problem", "ArmFileError", "load", "loads", "save", "dumps", "validate"]
+__all__ = [
+    "ArmSpec",
+    "JointSpec",
+    "Problem",
+    "ArmFileError",
+    "load",
+    "loads",
+    "save",
+    "dumps",
+    "validate",
+    "write_text_atomic",
+]
 
 FORMAT = 1
 MAX_BYTES = 1 << 20
@@ -574,14 +585,18 @@ def dumps(spec: ArmSpec) -> str:
     return tomlkit.dumps(doc)
 
 
-def save(spec: ArmSpec, path) -> None:
-    """Write the arm to ``path`` atomically: a temporary file in the same folder, then a rename.
+def write_text_atomic(path, text: str) -> None:
+    """Write ``text`` (UTF-8) to ``path`` atomically: a temporary file in the same folder, then a rename.
 
-    Comments and formatting of the loaded document are kept.  After saving,
-    ``spec`` refers to the written document, so later saves keep them too.
+    An existing file keeps its permissions; a new one gets the usual ``0o666 & ~umask``.
+    A failure leaves the old file as it was and no temporary file behind.
+
+    Raises
+    ------
+    ArmFileError
+        When no temporary file can be made in the folder (missing, not writable).
     """
     path = Path(path)
-    text = dumps(spec)
     folder = path.parent if str(path.parent) else Path(".")
     try:
         fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=folder)
@@ -606,6 +621,17 @@ def save(spec: ArmSpec, path) -> None:
         except OSError:
             pass
         raise
+
+
+def save(spec: ArmSpec, path) -> None:
+    """Write the arm to ``path`` atomically (:func:`write_text_atomic`).
+
+    Comments and formatting of the loaded document are kept.  After saving,
+    ``spec`` refers to the written document, so later saves keep them too.
+    """
+    path = Path(path)
+    text = dumps(spec)
+    write_text_atomic(path, text)
     fresh = loads(text, str(path))
     spec._doc = fresh._doc
     for j, fj in zip(spec.joints, fresh.joints):

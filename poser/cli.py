@@ -71,7 +71,9 @@ def parse_list(text: str, what: str, count: int | None = None) -> np.ndarray:
     return np.array(values)
 
 
-def _load(path):
+def load_arm(path):
+    """Load and check an arm file for the command line: ``(spec, chain)``; a bad file is a UsageError
+    naming its first problem (``poser check`` lists them all)."""
     from poser.armfile import ArmFileError, load
 
     try:
@@ -129,7 +131,7 @@ def cmd_check(args) -> int:
 def cmd_fk(args) -> int:
     from poser.core.transforms import as_xyz_rpy
 
-    spec, chain = _load(args.arm)
+    spec, chain = load_arm(args.arm)
     q_user = parse_list(args.joints, "--joints", chain.n)
     q = chain.q_from_user(q_user)
     units = spec.units
@@ -177,7 +179,7 @@ def cmd_ik(args) -> int:
         from poser.ikcli import run_ik
     except ImportError:
         raise UsageError("inverse kinematics is not available in this build yet") from None
-    spec, chain = _load(args.arm)
+    spec, chain = load_arm(args.arm)
     return run_ik(args, spec, chain)
 
 

@@ -31,17 +31,10 @@ def _size(text: str) -> tuple[int, int]:
 
 def _prepare(args):
     """Read and check every argument before Qt starts; raises UsageError with a plain message."""
-    from poser.armfile import ArmFileError, load
-    from poser.cli import UsageError, parse_list
+    from poser.cli import UsageError, load_arm, parse_list
 
     path = Path(args.arm) if getattr(args, "arm", None) else default_arm()
-    try:
-        spec = load(path)
-    except ArmFileError as exc:
-        first = exc.problems[0]
-        more = f" (and {len(exc.problems) - 1} more; run 'poser check {path}')" if len(exc.problems) > 1 else ""
-        raise UsageError(f"{first}{more}") from None
-    chain = spec.to_chain()
+    spec, chain = load_arm(path)
     q_user = None
     if getattr(args, "joints", None):
         q_user = parse_list(args.joints, "--joints", chain.n)

@@ -4,8 +4,9 @@ from __future__ import annotations
 
 import hashlib
 import os
-import tempfile
 from pathlib import Path
+
+from poser.armfile import write_text_atomic
 
 MAX_RECENT = 8
 
@@ -28,21 +29,9 @@ def recovery_path(arm_path: Path | None) -> Path:
 
 
 def write_atomic(path: Path, text: str) -> None:
-    """Write ``text`` to ``path`` through a temporary file and a rename."""
+    """Write ``text`` to ``path`` through a temporary file and a rename, making the folder if needed."""
     path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
+    write_text_atomic(path, text)
 
 
 def push_recent(recent: list[str], path) -> list[str]:
