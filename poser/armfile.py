@@ -49,6 +49,10 @@ __all__ = [
 FORMAT = 1
 MAX_BYTES = 1 << 20
 MAX_JOINTS = 32
+MAX_MAGNITUDE = 1e9
+"""Largest size of any number in an arm file (its own units): larger ones are refused as absurd, since
+kinematics with them overflows to infinity (1e9 mm is 1000 km; 1e9 deg is millions of turns)."""
+_MAX_TEXT = "1e9"
 JOINT_TYPES = ("revolute", "prismatic")
 TOP_KEYS = ("format", "name", "convention", "units", "base", "tool", "joint", "notes")
 JOINT_KEYS = ("name", "type", "a", "alpha", "d", "theta", "min", "max", "home")
@@ -197,6 +201,9 @@ def validate(spec: ArmSpec, file: str = "<arm>", lines: _Lines | None = None) ->
             bad(f"[{label}] {key} must be a list of three numbers, got {list(vec)!r}", lines.key(label, key))
         elif not all(_is_finite(v) for v in vec):
             bad(f"[{label}] {key} must be finite, got {list(vec)!r}", lines.key(label, key))
+        elif not all(abs(v) <= MAX_MAGNITUDE for v in vec):
+            vunit = spec.units.length if key == "xyz" else spec.units.angle
+            bad(f"[{label}] {key} must lie within ±{_MAX_TEXT} {vunit}, got {list(vec)!r}", lines.key(label, key))
     if not spec.joints:
         bad("the arm has no joints; add at least one [[joint]] table")
     if len(spec.joints) > MAX_JOINTS:
@@ -234,6 +241,12 @@ def validate(spec: ArmSpec, file: str = "<arm>", lines: _Lines | None = None) ->
                 bad_keys.add(key)
             elif not _is_finite(v):
                 bad(f"{key} must be finite, got {v!r}", jline(key), jname)
+                bad_keys.add(key)
+            elif abs(v) > MAX_MAGNITUDE:
+                key_unit = {"a": spec.units.length, "d": spec.units.length, "alpha": spec.units.angle,
+                            "theta": spec.units.angle}.get(key, unit)
+                bad(f"{key} must lie within ±{_MAX_TEXT} {key_unit} (larger is absurd for an arm), got {v!r}",
+                    jline(key), jname)
                 bad_keys.add(key)
         if not bad_keys & {"min", "max"}:  # the limits are checked even when, say, a is wrong
             if not j.min < j.max:
@@ -571,11 +584,13 @@ def dumps(spec: ArmSpec) -> str:
     # Joints added, removed or reordered: rebuild the array.  A parsed AoT adds no blank line before
     # tables that already carry their own spacing (an unparsed one would add one on every save).
     aot = tomlkit.items.AoT([], name="joint", parsed=True)
+    keys = list(doc.keys())
+    more_after = "joint" in keys and keys.index("joint") + 1 < len(keys)  # e.g. [notes] after the joints
     for k, tbl in enumerate(tables):
         if not any(tbl is t for t in (old or [])):  # a new table: one blank line before it
             if k and not tables[k - 1].as_string().endswith("\n\n") and "\n" not in tbl.trivia.indent:
                 tbl.trivia.indent = "\n" + tbl.trivia.indent
-            if k + 1 < len(tables):
+            if k + 1 < len(tables) or more_after:
                 tbl.add(tomlkit.nl())
         aot.append(tbl)
     if "joint" in doc:

@@ -24,6 +24,10 @@ from poser import __version__
 SUBCOMMANDS = ("check", "fk", "ik")
 LIST_OPTIONS = ("--joints", "--xyz", "--rpy", "--near", "--target")
 _NUMBERISH = re.compile(r"^-[\d.]")
+_NUMBER = re.compile(r"^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$", re.ASCII)
+"""A plain decimal number as people type it (``float()`` would also take ``1_0``, ``inf`` or other scripts' digits)."""
+MAX_VALUE = 1e12
+"""Largest size of a number on the command line: beyond it results overflow or lose every digit."""
 
 
 class UsageError(Exception):
@@ -59,12 +63,13 @@ def parse_list(text: str, what: str, count: int | None = None) -> np.ndarray:
     parts = [p.strip() for p in text.split(",")]
     values = []
     for p in parts:
-        try:
-            v = float(p)
-        except ValueError:
-            raise UsageError(f"{what} must be comma-separated numbers, got {p!r} in {text!r}") from None
-        if not np.isfinite(v):
+        if p.lower().lstrip("+-") in ("nan", "inf", "infinity"):
             raise UsageError(f"{what} must be finite numbers, got {p!r}")
+        if not _NUMBER.match(p):
+            raise UsageError(f"{what} must be comma-separated numbers, got {p!r} in {text!r}")
+        v = float(p)
+        if not np.isfinite(v) or abs(v) > MAX_VALUE:
+            raise UsageError(f"{what} values must lie within ±1e12 (the arm's units), got {p!r}")
         values.append(v)
     if count is not None and len(values) != count:
         raise UsageError(f"{what} needs {count} values, got {len(values)} ({text!r})")
@@ -242,7 +247,7 @@ def build_parsers():
     ik = _Parser(
         prog="poser ik",
         description="Inverse kinematics: every branch that puts the tool at a pose. "
-        "Exit 0 when reachable within limits, 1 when not, 2 on bad input.",
+        "Exit 0 when reachable within limits, 1 when not, 2 on bad input or a solver fault.",
     )
     ik.add_argument("arm", metavar="ARM.toml")
     ik.add_argument("--xyz", required=True, metavar="X,Y,Z", help="tool position in world coordinates, arm length unit")

@@ -2,7 +2,7 @@
 
 Every value is read and printed in the arm's own units.  Exit status 0 when
 some branch reaches the target within limits, 1 when none does, 2 on bad
-input (raised as :class:`poser.cli.UsageError`).
+input or a solver fault (raised as :class:`poser.cli.UsageError`).
 """
 
 from __future__ import annotations
@@ -65,6 +65,7 @@ def result_to_json(chain, result, xyz, rpy_user=None, near_user=None) -> dict:
         "message": result.message,
         "joint_names": list(chain.names),
         "joint_units": [units.joint_unit(k) for k in chain.kinds],
+        "distance_unit": None if near_user is None else distance_unit(chain),
         "branches": [_branch_json(chain, b, near_user) for b in result.branches],
         "closest": None if result.closest is None else _branch_json(chain, result.closest, near_user),
         "nearest_point": None if result.nearest_point is None else [float(v) for v in result.nearest_point],
@@ -74,19 +75,28 @@ def result_to_json(chain, result, xyz, rpy_user=None, near_user=None) -> dict:
     return out
 
 
-def _table(chain, branches, near_user):
+def distance_unit(chain) -> str:
+    """Unit of the joint-space distance from ``--near``: the joint unit, or both when the arm mixes them."""
+    units = sorted({chain.units.joint_unit(k) for k in chain.kinds}, key=lambda u: u != chain.units.angle)
+    return " & ".join(units)
+
+
+def _table(chain, branches, near_user, position_only=False):
     units = chain.units
     A, Lu = units.angle, units.length
     heads = ["#"] + [f"{n} [{units.joint_unit(k)}]" for n, k in zip(chain.names, chain.kinds)]
     heads += [f"pos err [{Lu}]", f"ori err [{A}]", "manip.", "limits"]
     if near_user is not None:
-        heads.append("distance")
+        heads.append(f"distance [{distance_unit(chain)}]")
     heads.append("configuration")
     rows = []
     for i, b in enumerate(branches, 1):
         q_user = chain.q_to_user(b.q)
         row = [str(i)] + [f"{round(float(v), 3) + 0.0:.3f}" for v in q_user]
-        row += [f"{b.position_error:.3g}", f"{float(units.angle_out(b.orientation_error)):.3g}"]
+        # position only: no orientation was asked for, so there is no orientation error to show
+        ori = "–" if position_only else f"{float(units.angle_out(b.orientation_error)):.3g}"
+        pos = f"{b.position_error:.0f}" if b.position_error >= 1000 else f"{b.position_error:.3g}"  # not 4.12e+03
+        row += [pos, ori]
         row += [f"{b.manipulability:.4g}"]
         if b.within_limits:
             row.append("ok")
@@ -132,9 +142,11 @@ def run_ik(args, spec, chain) -> int:
     if getattr(args, "near", None) is not None:
         near_user = parse_list(args.near, "--near", chain.n)
         near = chain.q_from_user(near_user)
-    if np.max(np.abs(xyz)) > 1e12:
-        raise UsageError(f"--xyz values are too large to be a position: {args.xyz!r}")
     result = solve(chain, xyz, R, near, time_budget=0.5)
+    if result.solver == "none":
+        # The solver broke on this input (it reports rather than raises): that is no verdict on reach,
+        # so it must not read as "not reachable" (exit 1).
+        raise UsageError(f"{result.message} This is a fault in Poser, not an answer about the target.")
     code = 0 if result.reachable else 1
     if getattr(args, "json", False):
         print(json.dumps(result_to_json(chain, result, xyz, rpy_user, near_user), indent=2))
@@ -152,7 +164,7 @@ def run_ik(args, spec, chain) -> int:
     missing = [b for b in result.branches if not b.reaches]
     if reaching:
         print(f"Branches that reach the target ({len(reaching)}; within limits first):")
-        print("\n".join(_table(chain, reaching, near_user)))
+        print("\n".join(_table(chain, reaching, near_user, result.position_only)))
     else:
         print("No branch reaches the target.")
     if missing:
@@ -173,7 +185,7 @@ def run_ik(args, spec, chain) -> int:
             print(f"  … and {len(missing) - shown} more (see --json)")
     if result.closest is not None:
         print("Closest approach within limits:")
-        print("\n".join(_table(chain, [result.closest], near_user)))
+        print("\n".join(_table(chain, [result.closest], near_user, result.position_only)))
     if result.nearest_point is not None:
         npnt = result.nearest_point
         print(f"Nearest reachable point: {', '.join(_fmt(v) for v in npnt)} {Lu}")

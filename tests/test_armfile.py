@@ -125,12 +125,31 @@ def test_to_chain_converts_angles_and_keeps_lengths():
     np.testing.assert_allclose(chain.q_from_user([90.0, 25.0]), [math.pi / 2, 25.0])
 
 
-def test_extreme_but_finite_values_still_build_a_chain():
-    text = 'format = 1\n[[joint]]\ntype = "prismatic"\nmin = 1e308\nmax = 1.5e308\na = ' + str(10**300) + "\n"
+def test_large_values_up_to_the_bound_still_build_a_chain():
+    text = 'format = 1\n[[joint]]\ntype = "prismatic"\nmin = 0.5e9\nmax = 1e9\na = ' + str(10**9) + "\n"
     spec = loads(text)
-    assert spec.home_values() == [1.25e308]  # mid-range without overflowing
+    assert spec.home_values() == [0.75e9]  # mid-range
     chain = spec.to_chain()
-    assert chain.home[0] == 1.25e308 and chain.joints[0].post[0, 3] == 1e300
+    assert chain.home[0] == 0.75e9 and chain.joints[0].post[0, 3] == 1e9
+    assert np.all(np.isfinite(chain.fk([1e9])))
+
+
+def test_absurdly_large_values_are_refused_with_their_unit_and_line():
+    """Finite but absurd numbers (1e308 mm) made FK overflow to inf and NaN (and JSON output invalid)."""
+    text = (
+        'format = 1\n[units]\nlength = "m"\nangle = "rad"\n[base]\nxyz = [0, 0, 2e9]\n'
+        '[[joint]]\nname = "slide"\ntype = "prismatic"\nmin = -1e308\nmax = 1\na = ' + str(10**300) + "\n"
+        "alpha = 1e10\n"
+    )
+    with pytest.raises(ArmFileError) as info:
+        loads(text, "big.toml")
+    got = [str(p) for p in info.value.problems]
+    assert got == [
+        "big.toml:6: [base] xyz must lie within ±1e9 m, got [0, 0, 2000000000.0]",
+        f"big.toml:12: joint 'slide': a must lie within ±1e9 m (larger is absurd for an arm), got {10**300!r}",
+        "big.toml:13: joint 'slide': alpha must lie within ±1e9 rad (larger is absurd for an arm), got 10000000000.0",
+        "big.toml:10: joint 'slide': min must lie within ±1e9 m (larger is absurd for an arm), got -1e+308",
+    ]
 
 
 def test_notes_table_is_free_form_and_kept():
@@ -711,3 +730,16 @@ def test_new_file_gets_usual_permissions(tmp_path):
     finally:
         os.umask(old)
     assert target.stat().st_mode & 0o777 == 0o644
+
+
+def test_a_joint_added_before_notes_keeps_a_blank_line_before_them(tmp_path):
+    path = tmp_path / "heron6.toml"
+    path.write_text((DEMO_DIR / "heron6.toml").read_text())
+    spec = load(path)
+    spec.joints.append(JointSpec(name="J7 extra", type="revolute", min=-90, max=90))
+    save(spec, path)
+    text = path.read_text()
+    assert 'max = 90\n\n[notes]\n' in text  # not "max = 90\n[notes]"
+    assert [j.name for j in load(path).joints][-1] == "J7 extra"
+    save(spec, path)  # and a second save changes nothing
+    assert path.read_text() == text

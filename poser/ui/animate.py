@@ -25,6 +25,13 @@ class JointAnimator(QObject):
         self._timer.timeout.connect(self._tick)
         self._q0 = self._q1 = None
         self._t0 = 0.0
+        state.changed.connect(self._on_state)
+
+    def _on_state(self, field: str) -> None:
+        # Another arm (other joints, maybe another count) or a joint moved by someone else (a slider, a
+        # key, Home): the motion in flight is stale and must not pull the arm back.
+        if self.running and (field == "arm" or (field == "q" and self.state.writer is not self)):
+            self.stop()
 
     @property
     def running(self) -> bool:

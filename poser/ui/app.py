@@ -31,7 +31,11 @@ def _size(text: str) -> tuple[int, int]:
 
 def _prepare(args):
     """Read and check every argument before Qt starts; raises UsageError with a plain message."""
+    import numpy as np
+
     from poser.cli import UsageError, load_arm, parse_list
+
+    FIELD_LIMIT = 1e6  # as poser.ui.target_panel.FIELD_LIMIT (not imported: Qt is not started yet)
 
     path = Path(args.arm) if getattr(args, "arm", None) else default_arm()
     spec, chain = load_arm(path)
@@ -43,6 +47,9 @@ def _prepare(args):
         vals = parse_list(args.target, "--target")
         if len(vals) not in (3, 6):
             raise UsageError(f"--target needs 3 values (X,Y,Z) or 6 (X,Y,Z,R,P,Y), got {len(vals)} ({args.target!r})")
+        if np.max(np.abs(vals)) > FIELD_LIMIT:
+            raise UsageError(f"--target values must lie within ±1e6 (the target fields' range), "
+                             f"got {args.target!r}")
         target = vals
     size = _size(getattr(args, "size", None) or "1280x800")
     snapshot = getattr(args, "snapshot", None)
@@ -52,6 +59,8 @@ def _prepare(args):
             raise UsageError(f"--snapshot must name a .png file, got {snapshot!r}")
         if not out.parent.exists() and str(out.parent):
             raise UsageError(f"--snapshot: folder {str(out.parent)!r} does not exist")
+        if out.is_dir():
+            raise UsageError(f"--snapshot: {snapshot!r} is a folder, not a file to write")
     return path, spec, q_user, target, size
 
 
@@ -90,7 +99,10 @@ def run(args) -> int:
     if snapshot:
         ok = win.snapshot(snapshot, size)
         _dispose(app, win)
-        return 0 if ok else 1
+        if not ok:
+            print(f"poser: error: --snapshot: cannot write {snapshot!r} (a folder, or no permission?)", file=sys.stderr)
+            return 2
+        return 0
 
     win.show()
     if os.environ.get("POSER_EXIT_AFTER_FIRST_FRAME"):

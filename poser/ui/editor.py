@@ -57,14 +57,30 @@ def parse_vector(text: str) -> tuple:
     return tuple(parse_number(p, p) for p in parts)
 
 
+def _exact(v) -> str:
+    """A number as text that reads back to the same value (``:g`` keeps six digits: editing any other
+    cell would then quietly round every row, and saving would write the rounded values)."""
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        return str(v)
+    if isinstance(v, int) or (v.is_integer() and abs(v) < 1e15):
+        return str(int(v))
+    return repr(float(v))
+
+
 def _vec_text(v) -> str:
-    return ", ".join(f"{float(x):g}" if isinstance(x, (int, float)) else str(x) for x in v)
+    return ", ".join(_exact(x) for x in v)
 
 
 def _num_text(v) -> str:
+    """A cell's text: short (six digits, so the table stays narrow); the exact value rides along in the
+    cell (:data:`EXACT`) and is used for as long as the text is left as shown."""
     if v is None:
         return ""
-    return f"{v:g}" if isinstance(v, (int, float)) else str(v)
+    return f"{v:g}" if isinstance(v, (int, float)) and not isinstance(v, bool) else str(v)
+
+
+EXACT = Qt.ItemDataRole.UserRole
+"""Where a table cell keeps the exact number it shows rounded."""
 
 
 class EditorPanel(QWidget):
@@ -75,6 +91,7 @@ class EditorPanel(QWidget):
         self.state = state
         self.problems: list = []
         self._tables: list = []  # the loaded document's table of each row (keeps comments on save)
+        self._applied: list = []  # the tables of the arm last handed to the state, in its joint order
         self._loading = False
         lay = QVBoxLayout(self)
         lay.setContentsMargins(4, 4, 4, 4)
@@ -182,6 +199,7 @@ class EditorPanel(QWidget):
             self._tables = []
             for j in spec.joints:
                 self._append_row(j)
+            self._applied = list(self._tables)
             del blockers
         finally:
             self._loading = False
@@ -216,7 +234,15 @@ class EditorPanel(QWidget):
                     combo.currentIndexChanged.connect(lambda *_: self.edited())
                     self.table.setCellWidget(r, c, combo)
                     continue
-                self.table.setItem(r, c, QTableWidgetItem(_num_text(getattr(j, key)) if key != "name" else j.name))
+                if key == "name":
+                    self.table.setItem(r, c, QTableWidgetItem(j.name))
+                    continue
+                value = getattr(j, key)
+                item = QTableWidgetItem(_num_text(value))
+                if isinstance(value, (int, float)) and not isinstance(value, bool):
+                    item.setData(EXACT, value)
+                    item.setToolTip(_exact(value))
+                self.table.setItem(r, c, item)
         self._tables.insert(r, j._table)
 
     # -- widgets → candidate arm ---------------------------------------------------------------
@@ -226,6 +252,15 @@ class EditorPanel(QWidget):
             return self.table.cellWidget(row, c).currentText()
         item = self.table.item(row, c)
         return item.text() if item is not None else ""
+
+    def _number(self, row: int, key: str, blank):
+        """A numeric cell's value: the exact number behind it while its text is as shown, else the text read."""
+        text = self.cell(row, key)
+        item = self.table.item(row, KEYS.index(key))
+        exact = item.data(EXACT) if item is not None else None
+        if exact is not None and text.strip() == _num_text(exact):
+            return exact
+        return parse_number(text, blank)
 
     def set_cell(self, row: int, key: str, text: str) -> None:
         """Type ``text`` into a cell (as a user would); validation follows."""
@@ -253,10 +288,8 @@ class EditorPanel(QWidget):
                 text = self.cell(r, key)
                 if key in ("name", "type"):
                     vals[key] = text.strip() if key == "name" else text
-                elif key in ("min", "max", "home"):
-                    vals[key] = parse_number(text, None)
                 else:
-                    vals[key] = parse_number(text, 0.0)
+                    vals[key] = self._number(r, key, None if key in ("min", "max", "home") else 0.0)
             joints.append(JointSpec(**vals, _table=self._tables[r] if r < len(self._tables) else None))
         spec.joints = joints
         return spec
@@ -272,6 +305,7 @@ class EditorPanel(QWidget):
         if not problems:
             try:
                 self.state.set_arm(spec, dirty=True, writer=self)
+                self._applied = [j._table for j in spec.joints]
             except (ArmFileError, PoserError, ValueError) as exc:
                 problems = getattr(exc, "problems", None) or [str(exc)]
         self._show_problems(problems)
@@ -351,3 +385,18 @@ class EditorPanel(QWidget):
     def _on_state(self, field: str) -> None:
         if field == "arm" and self.state.writer is not self:
             self.load_from_state()
+        elif field == "document" and self.state.writer is not self:  # a save (not one of our own edits)
+            self._follow_saved_tables()
+
+    def _follow_saved_tables(self) -> None:
+        """After a save the arm refers to the written document's tables: the rows must too.
+
+        Otherwise the next save meets tables that are not in its document, takes every joint for a new
+        one and adds blank lines around each, more on every save.
+        """
+        new = [j._table for j in self.state.spec.joints]
+        if len(new) != len(self._applied):
+            return
+        swap = {id(old): t for old, t in zip(self._applied, new) if old is not None}
+        self._tables = [swap.get(id(t), t) for t in self._tables]
+        self._applied = new

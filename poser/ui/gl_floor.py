@@ -24,6 +24,11 @@ class GLFloor(ItemGroup):
     def setData(self, spacing: float, half_size: float, unit: str) -> None:
         cells = max(2, int(round(half_size / spacing)))
         size = 2 * cells * spacing
+        # pyqtgraph redraws the lines on each call: the new size with the old spacing (or the other way
+        # round) can mean billions of lines when the arm's size changes a lot (1e9 mm after 1 m). Go
+        # through a spacing as wide as both sizes, so no step draws more than the final grid.
+        big = max(size, *self._grid.size()[:2])
+        self._grid.setSpacing(big, big, 1)
         self._grid.setSize(size, size, 1)
         self._grid.setSpacing(spacing, spacing, 1)
         self.spacing = spacing

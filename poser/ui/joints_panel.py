@@ -296,6 +296,10 @@ class JointPanel(QWidget):
                     row.slider.setValue(row.value_to_slider(float(np.clip(v, row.lower, row.upper))))
             if self._source is not row.spin:
                 with QSignalBlocker(row.spin):
+                    if not row.spin.minimum() <= v <= row.spin.maximum():
+                        # a value from elsewhere (a branch beyond the limits, --joints) must show as it is,
+                        # not clamped to the box's range
+                        row.spin.setRange(min(row.spin.minimum(), float(v)), max(row.spin.maximum(), float(v)))
                     row.spin.setValue(float(v))
             pos = (float(v) - row.lower) / (row.upper - row.lower)
             row.bar.set_value(pos, margin, ls)

@@ -440,10 +440,10 @@ class MainWindow(QMainWindow):
             painter.end()
         ok = pix.save(str(out), "PNG")
         if not ok:
-            print(f"poser: error: cannot write {out}", flush=True)
+            self.report("Cannot save the snapshot", f"{out}: cannot write this PNG file (a folder, or no permission?)")
         return ok
 
     def _snapshot_dialog(self) -> None:
         path, _ = QFileDialog.getSaveFileName(self, "Save snapshot", "poser.png", "PNG images (*.png)")
         if path:
-            self.snapshot(path)
+            self.snapshot(path)  # a failure is reported by snapshot()

@@ -307,6 +307,8 @@ class PoseState(QObject):
         if dirty is not None and dirty != self._dirty:
             self._dirty = dirty
             doc_changed = True
+        # the same arm read again from its file is another document: whoever keeps its tables must know
+        doc_changed |= getattr(spec, "_doc", None) is not getattr(self._spec, "_doc", None)
         same_arm = chain == self._chain
         self._spec = spec
         if not same_arm:

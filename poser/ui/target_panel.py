@@ -36,6 +36,8 @@ HEADER_TIPS = (
 LIMIT_COL_MAX = 140
 """Widest the limits column grows (pixels) before its text wraps onto a second line."""
 MANIP_COL_MAX = 110
+FIELD_LIMIT = 1e6
+"""Largest size of a value in the target fields (arm units)."""
 DECIMALS = {"mm": 3, "m": 5, "in": 4, "deg": 3, "rad": 5}
 """Decimals of the target fields by unit (a tenth of a micrometre-ish, a thousandth of a degree)."""
 
@@ -167,7 +169,7 @@ class TargetPanel(QWidget):
     @staticmethod
     def _spin(decimals: int) -> QDoubleSpinBox:
         s = QDoubleSpinBox()
-        s.setRange(-1e6, 1e6)
+        s.setRange(-FIELD_LIMIT, FIELD_LIMIT)
         s.setDecimals(decimals)
         s.setKeyboardTracking(True)
         s.setMinimumWidth(70)
@@ -180,9 +182,11 @@ class TargetPanel(QWidget):
 
     def _units(self) -> None:
         u = self.state.chain.units
+        blockers = [QSignalBlocker(s) for s in self.xyz]  # new decimals round the value: that is no edit
         for s in self.xyz:
             s.setSuffix(f" {u.length}")
             s.setDecimals(DECIMALS.get(u.length, 4))
+        del blockers
         self._layout_mode()
 
     def _layout_mode(self) -> None:

@@ -211,6 +211,10 @@ def ik_summary(chain, result) -> tuple[str, str]:
     head = f"{n} branch{'es' if n != 1 else ''} ({kind}, {solver_words(result)} solver)"
     family = " The arm is redundant: these are samples of a family of solutions." if getattr(
         result, "redundant", False) else ""
+    if getattr(result, "solver", "") == "none":
+        # the solver broke on this target and reported it: no verdict on reach, so never "out of reach"
+        msg = str(getattr(result, "message", "") or "").strip()
+        return "at", f"Not solved: {msg or 'the solver failed on this target.'} The target may still be reachable."
     if not result.reachable:
         parts = ["Out of reach."]
         c = result.closest
