@@ -35,6 +35,7 @@ position itself is out of reach, the nearest reachable tool position.
 
 from __future__ import annotations
 
+import itertools
 import math
 import time
 from dataclasses import dataclass, field
@@ -45,7 +46,6 @@ from poser.core.errors import PoserValueError
 from poser.core.ik import _closed, _labels, _numeric, _scalar
 from poser.core.ik._evaluate import evaluator
 from poser.core.ik._geometry import TWO_PI, chain_lines, pose_and_jacobian, wrap
-from poser.core.transforms import rotation_error
 
 __all__ = ["solve", "solve_batch", "IKResult", "Branch", "Violation", "BatchResult", "structure_of"]
 
@@ -209,14 +209,15 @@ def _fmt_len(chain, v):
 
 
 def _fmt_angle(chain, rad):
-    v = float(chain.units.angle_out(rad))
-    return f"{v:.0f}°" if chain.units.angle == "deg" else f"{v:.2f} rad"
+    # (math.degrees multiplies by 180/π exactly as Units.angle_out's np.degrees does)
+    if chain.units.angle == "deg":
+        return f"{math.degrees(float(rad)):.0f}°"
+    return f"{float(rad):.2f} rad"
 
 
 def _fmt_joint(chain, i, v):
     if chain.revolute[i]:
-        a = float(chain.units.angle_out(v))
-        return f"{a:.1f}°" if chain.units.angle == "deg" else f"{a:.3f} rad"
+        return f"{math.degrees(v):.1f}°" if chain.units.angle == "deg" else f"{float(v):.3f} rad"
     return f"{v:.1f} {chain.units.length}"
 
 
@@ -238,13 +239,37 @@ class _Context:
         self.lo_l, self.hi_l = lo.tolist(), hi.tolist()
         self.mid = 0.5 * (lo + hi)
         tol = 1e-9 * np.where(rev, 1.0, np.maximum(1.0, hi - lo))
-        self.below, self.above = lo - tol, hi + tol  # beyond these a value breaks a limit
+        # beyond these a value breaks a limit: (joint, below, above)
+        self.limits = tuple(zip(range(n), (lo - tol).tolist(), (hi + tol).tolist()))
         self.names = chain.names
         self.wide = tuple(i for i in range(n) if rev[i] and hi[i] - lo[i] > TWO_PI + 1e-9)
+        self.wide_l = list(self.wide)
+        lo_l, hi_l = self.lo_l, self.hi_l
+        # per wide joint: the limits with their 1e-9 margin and every whole turn k that can place a
+        # value in [-π, π] within them (one more each side where rounding could matter)
+        wl = []
+        for i in self.wide:
+            lo_e, hi_e = lo_l[i] - 1e-9, hi_l[i] + 1e-9
+            a, b = (lo_e - math.pi) / TWO_PI, (hi_e + math.pi) / TWO_PI
+            ka, kb = math.ceil(a), math.floor(b)
+            ka -= a - (ka - 1) < 1e-6  # ka - 1 fails by a margin of (a - (ka - 1)) turns
+            kb += (kb + 1) - b < 1e-6
+            wl.append((i, lo_e, hi_e, tuple(range(ka, kb + 1))))
+        self.wide_limits = tuple(wl)
+        # the same as arrays: (W, C) shifts k·2π (padded with inf: never within limits), (W, 1) limits
+        C = max((len(c) for *_, c in wl), default=0)
+        self.wide_shift = np.full((len(wl), C), np.inf)
+        for j, (*_, cand) in enumerate(wl):
+            self.wide_shift[j, : len(cand)] = [k * TWO_PI for k in cand]
+        self.wide_lo = np.array([[x[1]] for x in wl]).reshape(-1, 1)
+        self.wide_hi = np.array([[x[2]] for x in wl]).reshape(-1, 1)
+        self.narrow_limits = tuple(x for x in self.limits if x[0] not in self.wide)
+        self.patterns = {}  # (max_per_branch, fitting turns...) → turns and columns of the combinations
         self.home = np.array(chain.home, float)
         self.home.setflags(write=False)
         self.no_turns = (0,) * n
         self.turn_words = {}  # turns tuple → words
+        self.labels = {}  # (configuration, turns) → (label, number of extra turns)
 
 
 def _context(chain) -> _Context:
@@ -265,47 +290,84 @@ def _expand_turns(chain, Q, ref, hit, max_per_branch=8):
     with ``hit`` (they reach the target), every turn that fits as a
     separate row; other rows keep the turn nearest ``ref``.  Returns the
     rows (E, n), their turns (list of tuples; turns count from the value in
-    (-π, π]) and the index of the row of ``Q`` each came from.
+    (-π, π]), the index of the row of ``Q`` each came from, and rows (K, n)
+    with the limits (joint, below, above) whose violations are those of the
+    rows made from them (see :func:`_branches`).
     """
     cx = _context(chain)
-    eps = 1e-9
     K = len(Q)
     if K == 0:
-        return np.zeros((0, cx.n)), [], []
+        return np.zeros((0, cx.n)), [], [], None, cx.limits
+    # (np.rint rounds half to even, as np.round does)
     if cx.all_rev:
         V = wrap(Q)
-        base = V + np.round((cx.mid - V) / TWO_PI) * TWO_PI
+        base = V + np.rint((cx.mid - V) / TWO_PI) * TWO_PI
     else:
         V = np.where(cx.rev, wrap(Q), Q)
-        base = V + np.where(cx.rev, np.round((cx.mid - V) / TWO_PI), 0.0) * TWO_PI
+        base = V + np.where(cx.rev, np.rint((cx.mid - V) / TWO_PI), 0.0) * TWO_PI
     wide = cx.wide
     if not wide:
-        return base, [cx.no_turns] * K, list(range(K))
-    rows, turns_out, src = [], [], []
-    Vl, Bl = V.tolist(), base.tolist()
-    lo_l, hi_l, ref_l = cx.lo_l, cx.hi_l, np.asarray(ref, float).tolist()
-    hit = np.asarray(hit).tolist()
+        return base, [cx.no_turns] * K, list(range(K)), base, cx.limits
+    # every candidate turn of every wide joint for every row at once: X (K, W, C), ok where within limits
+    W, C = len(wide), cx.wide_shift.shape[1]
+    X = V[:, cx.wide_l][:, :, None] + cx.wide_shift
+    ok = ((X >= cx.wide_lo) & (X <= cx.wide_hi)).reshape(K, W * C).tolist()
+    hit = list(hit)
+    patterns = cx.patterns
+    turns, cols, src = [], [], []
     for b in range(K):
-        vb = Vl[b]
-        combos = [()]
-        for i in wide:
-            v, lo_i, hi_i = vb[i], lo_l[i], hi_l[i]
-            ks = range(math.floor((lo_i - v) / TWO_PI), math.ceil((hi_i - v) / TWO_PI) + 1)
-            inside = [k for k in ks if lo_i - eps <= v + k * TWO_PI <= hi_i + eps]
-            if not hit[b]:
-                r = ref_l[i]
-                inside = [min(inside, key=lambda k: (k != 0, abs(v + k * TWO_PI - r)))]  # noqa: B023
-            combos = [c + (k,) for c in combos for k in inside][:max_per_branch]
-        for c in combos:
-            q = Bl[b][:]
-            turns = [0] * cx.n
-            for i, k in zip(wide, c):
-                q[i] = vb[i] + k * TWO_PI
-                turns[i] = k
-            rows.append(q)
-            turns_out.append(tuple(turns))
-            src.append(b)
-    return np.array(rows), turns_out, src
+        if hit[b]:
+            # every combination of the turns that fit, in order, at most max_per_branch: the same for
+            # every row with the same pattern of fitting turns
+            key = (max_per_branch, *ok[b])
+            ent = patterns.get(key)
+            if ent is None:
+                ent = patterns[key] = _turn_combinations(cx, ok[b], max_per_branch)
+        else:
+            ent = _nearest_turns(cx, ok[b], X[b].tolist(), ref)
+        turns += ent[0]
+        cols += ent[1]
+        src += [b] * len(ent[0])
+    Qe = base[src]
+    Qe[:, cx.wide_l] = X.reshape(K, W * C)[np.array(src)[:, None], cols]
+    # the wide joints' values are within their limits by construction: every row from one row of Q
+    # breaks the same limits, those of `base` without the wide joints
+    return Qe, turns, src, base, cx.narrow_limits
+
+
+def _turn_combinations(cx, ok, max_per_branch):
+    """Turns (full tuples) and candidate columns (into X (W * C)) of every combination of fitting turns."""
+    C = cx.wide_shift.shape[1]
+    opts = []
+    for j, (_, _, _, cand) in enumerate(cx.wide_limits):
+        opts.append([(k, j * C + c) for c, k in enumerate(cand) if ok[j * C + c]])
+    turns, cols = [], []
+    for combo in itertools.islice(itertools.product(*opts), max_per_branch):
+        t = [0] * cx.n
+        for i, (k, _) in zip(cx.wide, combo):
+            t[i] = k
+        turns.append(tuple(t))
+        cols.append(tuple(c for _, c in combo))
+    return turns, cols
+
+
+def _nearest_turns(cx, ok, X, ref):
+    """For a row that misses the target: per wide joint the turn that fits and is the current one (0),
+    else the fitting one nearest ``ref``."""
+    C = cx.wide_shift.shape[1]
+    t = [0] * cx.n
+    col = []
+    for j, (i, _, _, cand) in enumerate(cx.wide_limits):
+        fit = [c for c in range(len(cand)) if ok[j * C + c]]
+        if 0 in cand and cand.index(0) in fit:
+            c = cand.index(0)
+        else:
+            r = float(ref[i])
+            d = [abs(X[j][c] - r) for c in fit]
+            c = fit[d.index(min(d))]
+        t[i] = cand[c]
+        col.append(j * C + c)
+    return [tuple(t)], [tuple(col)]
 
 
 def _violations(chain, q):
@@ -322,31 +384,24 @@ def _violations_mask(chain, Q):
     return np.any((Qp < lo - tol) | (Qp > hi + tol), axis=1)
 
 
-def _violations_many(chain, Q):
-    """Violation tuples of configurations ``Q`` (K, n); limits are met within 1e-9 (rad or 1e-9 of the stroke)."""
+def _violations_many(chain, Q, limits=None):
+    """Violation tuples of configurations ``Q`` (K, n); limits are met within 1e-9 (rad or 1e-9 of the stroke).
+
+    ``limits`` (joint, below, above) restricts the joints checked (default: every joint).
+    """
     cx = _context(chain)
-    below = Q < cx.below
-    beyond = below | (Q > cx.above)
-    bad = beyond.any(axis=1).tolist()
-    if not any(bad):
-        return [()] * len(bad)
-    out = []
     names, lo_l, hi_l = cx.names, cx.lo_l, cx.hi_l
-    Ql, below, beyond = Q.tolist(), below.tolist(), beyond.tolist()
-    for k, b in enumerate(bad):
-        if not b:
-            out.append(())
-            continue
-        vs = []
-        qk, bk = Ql[k], below[k]
-        for i, x in enumerate(beyond[k]):
-            if x:
-                v = qk[i]
-                if bk[i]:
-                    vs.append(_violation(i, names[i], "lower", lo_l[i], v, lo_l[i] - v))
-                else:
-                    vs.append(_violation(i, names[i], "upper", hi_l[i], v, v - hi_l[i]))
-        out.append(tuple(vs))
+    limits = cx.limits if limits is None else limits
+    out = []
+    for row in Q.tolist():
+        vs = ()
+        for i, below, above in limits:
+            v = row[i]
+            if v < below:
+                vs += (_violation(i, names[i], "lower", lo_l[i], v, lo_l[i] - v),)
+            elif v > above:
+                vs += (_violation(i, names[i], "upper", hi_l[i], v, v - hi_l[i]),)
+        out.append(vs)
     return out
 
 
@@ -373,58 +428,75 @@ def _turn_words(chain, turns):
 
 
 def _metrics(chain, Q, xyz, R):
-    """Position error, orientation error, manipulability (K,) and the :class:`_evaluate.Frames` of Q (K, n)."""
+    """Position error, orientation error, manipulability (lists of K floats) and the Frames of Q (K, n)."""
     return evaluator(chain).metrics(Q, xyz, R)
 
 
-def _branch(**fields):
-    """A :class:`Branch` from its fields (all given; the same object ``Branch(**fields)`` makes, made faster)."""
-    b = _new(Branch)
-    b.__dict__.update(fields)
-    return b
+def _branches(chain, expanded, configs, metrics, near, tol, extra_words=None, keys=None):
+    """Branch objects for expanded rows of base configurations with ``metrics``.
 
-
-def _branches(chain, expanded, configs, metrics, near, tol, extra_words=None):
-    """Branch objects for expanded rows (Qe (E, n), turns, source index) of base configurations with ``metrics``."""
-    Qe, turns, src = expanded
+    ``expanded`` is (Qe (E, n), turns, source index, Vb, limits) as :func:`_expand_turns` returns it:
+    each row of Qe breaks the given limits of its row of Vb.
+    When ``keys`` is a list, the sort key of each branch (see :func:`_solve`) is appended to it.
+    """
+    Qe, turns, src, Vb, limits = expanded
     if not src:
         return []
     Qe.setflags(write=False)  # each branch's q is a (read-only) row of Qe
     perr, oerr, man = metrics[:3]
-    viol = _violations_many(chain, Qe)
+    viol = _violations_many(chain, Vb, limits)
+    if Vb is not Qe:
+        viol = [viol[k] for k in src]
     dist = None if near is None else np.sqrt(((Qe - near) ** 2).sum(axis=1)).tolist()
-    reach = ((perr <= tol[0]) & (oerr <= tol[1])).tolist()
-    perr, oerr, man = perr.tolist(), oerr.tolist(), man.tolist()
-    cfgs = []
-    for k, cfg in enumerate(configs):
-        if extra_words is not None and extra_words[k]:
-            cfg = f"{cfg} · {extra_words[k]}" if cfg else extra_words[k]
-        cfgs.append(cfg)
+    reach = [pe <= tol[0] and oe <= tol[1] for pe, oe in zip(perr, oerr)]
+    words = list(configs)
+    if extra_words is not None:
+        for k, cfg in enumerate(words):
+            if extra_words[k]:
+                words[k] = f"{cfg} · {extra_words[k]}" if cfg else extra_words[k]
+    labels = _context(chain).labels
+    rows = list(Qe)  # (read-only views)
     out = []
     for j, k in enumerate(src):
-        cfg = cfgs[k]
+        w = words[k]
+        cfg = w or "single configuration"
         t = turns[j]
-        if any(t):
-            label = " · ".join(([cfg] if cfg else []) + _turn_words(chain, t))
-        else:
-            label = cfg or "single configuration"
+        lab = labels.get((w, t))
+        if lab is None:
+            lab = _label(chain, w, t)
+            if len(labels) > 4096:
+                labels.clear()
+            labels[w, t] = lab
+        label, nturns = lab
         v = viol[j]
-        out.append(
-            _branch(
-                q=Qe[j],
-                label=label,
-                within_limits=not v,
-                violations=v,
-                position_error=perr[k],
-                orientation_error=oerr[k],
-                manipulability=man[k],
-                distance=None if dist is None else dist[j],
-                reaches=reach[k],
-                configuration=cfg or "single configuration",
-                turns=t,
-            )
+        d = None if dist is None else dist[j]
+        r = reach[k]
+        # the object Branch(...) makes, without the frozen __init__'s field-by-field object.__setattr__
+        b = _new(Branch)
+        b.__dict__.update(
+            q=rows[j],
+            label=label,
+            within_limits=not v,
+            violations=v,
+            position_error=perr[k],
+            orientation_error=oerr[k],
+            manipulability=man[k],
+            distance=d,
+            reaches=r,
+            configuration=cfg,
+            turns=t,
         )
+        out.append(b)
+        if keys is not None:
+            keys.append((not (r and not v), not r, 0.0 if d is None else d, nturns, j))
     return out
+
+
+def _label(chain, cfg, turns):
+    """The label of a configuration ``cfg`` (words, may be empty) with extra ``turns``, and the turn count."""
+    if any(turns):
+        return " · ".join(([cfg] if cfg else []) + _turn_words(chain, turns)), sum(map(abs, turns))
+    return cfg or "single configuration", 0
 
 
 def _dedupe(chain, Q, tol):
@@ -443,6 +515,7 @@ def _dedupe(chain, Q, tol):
                 keep.append(k)
         return keep
     # a few rows (closed form): plain floats, stopping at the first joint that differs
+    # (the same arithmetic as wrap(): pi - (pi - d) mod 2 pi)
     rows = Q.tolist()
     rev = _context(chain).rev_l
     scale, pi = L.scale, math.pi
@@ -485,6 +558,9 @@ def _spread(chain, Q, score, count):
 # -- the solver ----------------------------------------------------------------------------------
 
 
+_OPTIONS = frozenset({"method", "position_tolerance", "orientation_tolerance", "seeds", "max_branches", "closest"})
+
+
 def solve(chain, xyz, R=None, near=None, *, time_budget=0.05, **options) -> IKResult:
     """Every inverse-kinematics branch for a target.
 
@@ -512,10 +588,9 @@ def solve(chain, xyz, R=None, near=None, *, time_budget=0.05, **options) -> IKRe
     IKResult
     """
     xyz, R, near = _check_inputs(chain, xyz, R, near)
-    known = {"method", "position_tolerance", "orientation_tolerance", "seeds", "max_branches", "closest"}
-    unknown = set(options) - known
+    unknown = set(options) - _OPTIONS if options else None
     if unknown:
-        raise PoserValueError(f"options must be among {sorted(known)}, got {sorted(unknown)}")
+        raise PoserValueError(f"options must be among {sorted(_OPTIONS)}, got {sorted(unknown)}")
     method = options.get("method", "auto")
     if method not in ("auto", "closed", "numerical"):
         raise PoserValueError(f"method must be 'auto', 'closed' or 'numerical', got {method!r}")
@@ -550,7 +625,6 @@ def _solve(chain, xyz, R, near, tol, deadline, method, options):
     redundant = n > (rp if position_only else rf)
     st = None if method == "numerical" else _closed.recognise(chain)
     max_branches = int(options.get("max_branches", 8))
-    P = xyz[None]
     fmt_angle = lambda a: _fmt_angle(chain, a)  # noqa: E731
 
     extra = None
@@ -564,7 +638,7 @@ def _solve(chain, xyz, R, near, tol, deadline, method, options):
             # position only: a one-parameter family over the tool angle
             phi_ref = _closed.tool_angle(L, st.axis, pose_and_jacobian(L, ref[None])[1])[0]
             phis = phi_ref + np.arange(8) * (TWO_PI / 8)
-            Qf, ex = _closed.solve_closed(chain, st, np.repeat(P, 8, 0), None, ref, phi=phis)
+            Qf, ex = _closed.solve_closed(chain, st, np.repeat(xyz[None], 8, 0), None, ref, phi=phis)
             Q = Qf.reshape(-1, n)
             extra = [f"tool turned {fmt_angle(wrap(ph))}" for ph in np.repeat(phis, Qf.shape[1])]
         else:
@@ -587,7 +661,8 @@ def _solve(chain, xyz, R, near, tol, deadline, method, options):
 
     # distinct base configurations, then their extra turns
     keep = _dedupe(chain, Q, 1e-2 if numeric and redundant else (1e-5 if numeric else 1e-7))
-    Q = Q[keep]
+    if len(keep) < len(Q):
+        Q = Q[keep]
     if extra is not None:
         extra = [extra[k] for k in keep]
     if numeric and redundant and len(Q) > max_branches:
@@ -606,23 +681,16 @@ def _solve(chain, xyz, R, near, tol, deadline, method, options):
             extra = [extra[k] for k in idx]
     if len(Q):
         metrics = _metrics(chain, Q, xyz, R)
-        hit = (metrics[0] <= tol[0]) & (metrics[1] <= tol[1])
+        hit = [pe <= tol[0] and oe <= tol[1] for pe, oe in zip(metrics[0], metrics[1])]
         configs = _labels.describe(chain, Q, fmt_angle, metrics[3])
     else:
-        metrics, hit, configs = None, np.zeros(0, bool), []
-    uniq = _branches(chain, _expand_turns(chain, Q, ref, hit), configs, metrics, near, tol, extra)
-    keys = [
-        (
-            not (b.reaches and b.within_limits),
-            not b.reaches,
-            b.distance if b.distance is not None else 0.0,
-            sum(map(abs, b.turns)),
-            i,
-        )
-        for i, b in enumerate(uniq)
-    ]
-    branches = tuple(uniq[k[-1]] for k in sorted(keys))
-    reachable = any(b.reaches and b.within_limits for b in branches)
+        metrics, hit, configs = None, [], []
+    # ordered: reaching and within limits, then reaching, then the rest; each by distance, fewer turns first
+    keys = []
+    uniq = _branches(chain, _expand_turns(chain, Q, ref, hit), configs, metrics, near, tol, extra, keys)
+    keys.sort()
+    branches = tuple([uniq[k[-1]] for k in keys])
+    reachable = bool(keys) and not keys[0][0]  # the first branch reaches within limits
 
     closest = None
     nearest_point = None
@@ -666,7 +734,8 @@ def _closest(chain, xyz, R, ref, near, Q, tol, deadline, fmt_angle):
     qb = q[best]
     metrics = _metrics(chain, qb[None], xyz, R)
     cfg = _labels.describe(chain, qb[None], fmt_angle, metrics[3])
-    br = _branches(chain, (qb[None].copy(), [(0,) * chain.n], [0]), cfg, metrics, near, tol)[0]
+    Qb = qb[None].copy()
+    br = _branches(chain, (Qb, [(0,) * chain.n], [0], Qb, None), cfg, metrics, near, tol)[0]
     nearest = None
     if pe[best] > tol[0]:
         if R is None:

@@ -22,10 +22,12 @@ Each descriptor is computed only where the chain has the parts it needs.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from math import pi, sin, sqrt
 
 import numpy as np
 
 from poser.core.ik._geometry import (
+    TWO_PI,
     Lines,
     chain_lines,
     common_perpendicular,
@@ -147,9 +149,12 @@ def describe(chain, Q, fmt_angle, frames=None) -> list[str]:
         from poser.core.ik._evaluate import evaluator
 
         frames = evaluator(chain).frames(np.asarray(Q, float))
+    tiny = 1e-6 * L.scale
+    lv = frames.ev.label_vectors(frames)
+    if lv is not None:
+        return _describe_arm(pl, Q, tiny, *lv)
     S, W = frames.point("S"), frames.point("W")
     E = frames.point("E") if pl.E is not None else None
-    tiny = 1e-6 * L.scale
     cols = []  # one list of words per descriptor, each K long
     if pl.planar:
         a = pl.axis
@@ -221,6 +226,44 @@ def describe(chain, Q, fmt_angle, frames=None) -> list[str]:
             ]
         )
     return [" · ".join(ws) for ws in zip(*cols)]
+
+
+def _describe_arm(pl, Q, tiny, dots, along):
+    """:func:`describe` for an arm with shoulder, elbow and wrist points (no swivel), row by row in floats.
+
+    ``dots`` (K, 4, 4) are the dot products and ``along`` (K, 4) the components along the base axis of
+    rel = wrist - base axis point, d = wrist - shoulder, v = elbow - shoulder and the facing direction
+    (:meth:`poser.core.ik._evaluate.Evaluator.label_vectors`); the words are those of the vector form.
+    """
+    wj = pl.wrist_joint
+    qw = Q[:, wj].tolist() if wj is not None else None
+    out = []
+    for k, (g, a) in enumerate(zip(dots, along)):
+        g0, g1, g2 = g[0], g[1], g[2]
+        rw = a[0]
+        # the wrist point's distance from the base axis; on which side of it
+        if sqrt(max(g0[0] - rw * rw, 0.0)) <= tiny:
+            words = "wrist over the base axis"
+        else:
+            words = "shoulder front" if g0[3] >= 0 else "shoulder back"
+        # pe = v - d (v·d / d·d): the elbow's offset from the shoulder–wrist line
+        vd = g1[2]
+        t = vd / max(g1[1], 1e-300)
+        npe = sqrt(max(g2[2] - vd * t, 0.0))
+        if npe <= tiny:
+            words += " · arm stretched" if vd - g2[2] >= 0 else " · arm folded"  # v·(d - v)
+        else:
+            upc = a[2] - t * a[1]  # pe along the base axis, else towards the facing direction
+            sgn = upc if abs(upc) > 1e-3 * npe else g2[3] - t * g1[3]
+            words += " · elbow up" if sgn > 0 else " · elbow down"
+        if wj is not None:
+            v = pi - (pi - qw[k]) % TWO_PI
+            if abs(sin(v)) < 1e-6:
+                words += " · wrist axes aligned"
+            else:
+                words += " · wrist not flipped" if v > 0 else " · wrist flipped"
+        out.append(words)
+    return out
 
 
 def _fallback(chain, q):

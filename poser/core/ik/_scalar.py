@@ -11,6 +11,8 @@ from __future__ import annotations
 
 from math import acos, atan2, cos, hypot, sin, sqrt
 
+import numpy as np
+
 from poser.core.ik._closed import Structure, _perp_unit
 from poser.core.ik._geometry import Lines, chain_lines
 
@@ -180,6 +182,8 @@ def _stage(o, w, kind, c0, P, ref):
         t = (_dot(P, w[0]) - _dot(w[0], c0)) / _dot(w[0], w[2])
         x0 = _add(c0, _mul(w[2], t))
         return [((a, b, t), ex) for (a, b), ex in _planar2(o, w, 0, 1, x0, P, ref)]
+    if kind == "elbow":
+        return _elbow(o, w, c0, P, ref)
     u = w[1]
     h = _dot(u, _sub(c0, o[0]))
     q1s, exA, free = _plane(w[0], u, _sub(P, o[0]), h)
@@ -210,6 +214,89 @@ def _stage(o, w, kind, c0, P, ref):
             for t in (-b + r, -b - r):
                 x = _add(c0, _mul(v, t))
                 out.append(((q1, _onto(o[1], u, x, Pp, ref[1]), t), exA and exB))
+    return out
+
+
+_ELBOW = {}  # constants of the elbow stage per (o, w, c0): they depend on the chain only
+
+
+def _elbow_constants(o, w, c0):
+    """Everything in the elbow stage that does not depend on the target, computed as the stage would."""
+    u = w[1]
+    h = _dot(u, _sub(c0, o[0]))
+    y = _add(o[1], _mul(u, _dot(u, _sub(c0, o[1]))))
+    # _distance(o[2], w[2], c0, y, ...): the two points are fixed, only the distance varies
+    U, V = _sub(c0, o[2]), _sub(y, o[2])
+    uw, vw = _dot(U, w[2]), _dot(V, w[2])
+    nu = sqrt(max(_dot(U, U) - uw * uw, 0.0))
+    nv = sqrt(max(_dot(V, V) - vw * vw, 0.0))
+    theta0 = atan2(_dot(w[2], _cross(U, V)), _dot(U, V) - uw * vw)
+    den = 2.0 * nu * nv
+    safe = den > 1e-300
+    keep0 = safe and den > 1e-20 * (_dot(U, U) + _dot(V, V))
+    return (
+        h,
+        1.0 + abs(h),
+        _dot(w[0], u),
+        _cross(w[0], u),
+        (uw - vw) ** 2,
+        nu * nu + nv * nv,
+        den,
+        safe,
+        theta0 if keep0 else None,
+        U,
+    )
+
+
+def _elbow(o, w, c0, P, ref):
+    """The elbow stage (:func:`_stage`), its constant parts computed once per chain."""
+    key = (tuple(o[:3]), tuple(w[:3]), c0)
+    kc = _ELBOW.get(key)
+    if kc is None:
+        kc = _elbow_constants(o, w, c0)
+        if len(_ELBOW) > 256:
+            _ELBOW.clear()
+        _ELBOW[key] = kc
+    h, h1, wu, cu, duv2, nn, den, safe, theta0, U = kc
+    o0, o1, o2 = o[0], o[1], o[2]
+    w0, u, w2 = w[0], w[1], w[2]
+    # _plane(w0, u, P - o0, h)
+    v0, v1, v2 = P[0] - o0[0], P[1] - o0[1], P[2] - o0[2]
+    wv = w0[0] * v0 + w0[1] * v1 + w0[2] * v2
+    a = (v0 * u[0] + v1 * u[1] + v2 * u[2]) - wu * wv
+    b = v0 * cu[0] + v1 * cu[1] + v2 * cu[2]
+    c = h - wu * wv
+    r = hypot(a, b)
+    free = r < 1e-12 * (h1 + sqrt(v0 * v0 + v1 * v1 + v2 * v2))
+    if free:
+        exA = True  # (_plane: the argument is 0 when free)
+        q1s = (ref[0], ref[0])
+    else:
+        arg = c / r
+        exA = abs(arg) <= 1.0 + 1e-12
+        base = atan2(b, a)
+        phi = acos(min(1.0, max(-1.0, arg)))
+        q1s = (base + phi, base - phi)
+    th0 = ref[2] if theta0 is None else theta0
+    ref1 = ref[1]
+    out = []
+    for q1 in q1s:
+        Pp = _rot_pt(o0, w0, -q1, P)
+        r0, r1, r2 = Pp[0] - o1[0], Pp[1] - o1[1], Pp[2] - o1[2]
+        ru = r0 * u[0] + r1 * u[1] + r2 * u[2]
+        rho2 = max((r0 * r0 + r1 * r1 + r2 * r2) - ru * ru, 0.0)
+        # _distance(o2, w2, c0, y, sqrt(rho2), ref[2])
+        delta = sqrt(rho2)
+        d2 = delta * delta - duv2
+        arg = (nn - d2) / den if safe else 1.0
+        exB = -1.0 - 1e-12 <= arg <= 1.0 + 1e-12 and d2 >= -1e-12 * (1.0 + delta * delta)
+        phi = acos(min(1.0, max(-1.0, arg)))
+        ok = exA and exB
+        for q3 in (th0 - phi, th0 + phi):
+            x0, x1, x2 = _rot(w2, q3, U)
+            # _onto(o1, u, x3, Pp, ref1) with x3 = o2 + (x0, x1, x2); Pp - o1 is (r0, r1, r2)
+            q2 = _onto0(u, (o2[0] + x0) - o1[0], (o2[1] + x1) - o1[1], (o2[2] + x2) - o1[2], r0, r1, r2, ref1)
+            out.append(((q1, q2, q3), ok))
     return out
 
 
@@ -246,6 +333,13 @@ def _tuples(L: Lines, st: Structure):
     return cached
 
 
+def _floats(v):
+    """A flat sequence as a list of Python floats."""
+    if isinstance(v, np.ndarray) and v.dtype == float:
+        return v.tolist()
+    return [float(x) for x in v]
+
+
 def solve_single(chain, st: Structure, P, R, ref):
     """Candidate joint values for one target, or None when this structure has no scalar version.
 
@@ -261,15 +355,15 @@ def solve_single(chain, st: Structure, P, R, ref):
     """
     L = chain_lines(chain)
     o, w, p0, ex = _tuples(L, st)
-    P = tuple(float(v) for v in P)
-    ref = [float(v) for v in ref]
+    P = tuple(_floats(P))
+    ref = _floats(ref)
     if st.kind in ("elbow", "rrp_spherical", "rrp_cylindrical"):
         return [(list(q), e) for q, e in _stage(o, w, st.kind, p0, P, ref)]
     if st.kind == "planar2":
         return [(list(q), e) for q, e in _planar2(o, w, 0, 1, p0, P, ref)]
     if R is None:
         return None
-    R = [list(map(float, r)) for r in R]
+    R = R.tolist() if isinstance(R, np.ndarray) and R.dtype == float else [list(map(float, r)) for r in R]
     if st.kind in ("planar3", "table4"):
         a, zero = ex["a"], (0.0, 0.0, 0.0)
         phi = _onto(zero, a, ex["x"], _mv(R, ex["ax"]), 0.0)  # the tool's turn about the common axis
@@ -302,12 +396,20 @@ def _pieper(L, st, o, w, ex, P, R, ref):
     cr0, cr1, cr2 = cr
     a0, a1, a2 = w3
     b0, b1, b2 = w4
+    e0, e1, e2 = w5
+    ee = e0 * e0 + e1 * e1 + e2 * e2
+    xx = x0_ * x0_ + x1_ * x1_ + x2_ * x2_
+    xw = x0_ * e0 + x1_ * e1 + x2_ * e2
     ref3 = ref[3]
     out = []
+    last = None
     for (q1, q2, q3), exP in _stage(o, w, st.stage, ex["c"], Pc, ref):
         y, xr = y0, x0
         if r0:
-            y, xr = _rot2(w0, -q1, y, xr)
+            # the stage gives its solutions in pairs with the same q1: turn back through joint 1 once a pair
+            if last is None or last[0] != q1:
+                last = (q1, _rot2(w0, -q1, y, xr))
+            y, xr = last[1]
         if r1:
             y, xr = _rot2(w1, -q2, y, xr)
         if r2:
@@ -326,11 +428,38 @@ def _pieper(L, st, o, w, ex, P, R, ref):
         zw = s0 * a0 + s1 * a1 + s2 * a2
         degen = sqrt(max((s0 * s0 + s1 * s1 + s2 * s2) - zw * zw, 0.0)) < 1e-9
         ok = exP and exW
+        yy = y0_ * y0_ + y1_ * y1_ + y2_ * y2_
+        xr0, xr1, xr2 = xr
         for sg in (g, -g):
             s0, s1, s2 = z0 + cr0 * sg, z1 + cr1 * sg, z2 + cr2 * sg
-            t4 = ref3 if degen else _onto0(w3, s0, s1, s2, y0_, y1_, y2_, 0.0)
-            t5 = _onto0(w4, w5[0], w5[1], w5[2], s0, s1, s2, 0.0)
-            zz = _rot(w4, -t5, _rot(w3, -t4, xr))
-            t6 = _onto0(w5, x0_, x1_, x2_, zz[0], zz[1], zz[2], 0.0)
+            ss = s0 * s0 + s1 * s1 + s2 * s2
+            # the statements below are _onto0 and _rot written out (same operations, fewer calls)
+            if degen:
+                t4 = ref3
+            else:  # t4 = _onto0(w3, s, y, 0.0)
+                num = a0 * (s1 * y2_ - s2 * y1_) + a1 * (s2 * y0_ - s0 * y2_) + a2 * (s0 * y1_ - s1 * y0_)
+                den_ = (s0 * y0_ + s1 * y1_ + s2 * y2_) - (s0 * a0 + s1 * a1 + s2 * a2) * w1y
+                t4 = 0.0 if hypot(num, den_) <= 1e-20 * (ss + yy) + 1e-300 else atan2(num, den_)
+            # t5 = _onto0(w4, w5, s, 0.0)
+            num = b0 * (e1 * s2 - e2 * s1) + b1 * (e2 * s0 - e0 * s2) + b2 * (e0 * s1 - e1 * s0)
+            den_ = (e0 * s0 + e1 * s1 + e2 * s2) - w2x * (s0 * b0 + s1 * b1 + s2 * b2)
+            t5 = 0.0 if hypot(num, den_) <= 1e-20 * (ee + ss) + 1e-300 else atan2(num, den_)
+            # zz = _rot(w4, -t5, _rot(w3, -t4, xr))
+            c, sn = cos(-t4), sin(-t4)
+            k0, k1, k2 = a1 * xr2 - a2 * xr1, a2 * xr0 - a0 * xr2, a0 * xr1 - a1 * xr0
+            c1 = 1.0 - c
+            v0 = xr0 + sn * k0 + c1 * (a1 * k2 - a2 * k1)
+            v1 = xr1 + sn * k1 + c1 * (a2 * k0 - a0 * k2)
+            v2 = xr2 + sn * k2 + c1 * (a0 * k1 - a1 * k0)
+            c, sn = cos(-t5), sin(-t5)
+            k0, k1, k2 = b1 * v2 - b2 * v1, b2 * v0 - b0 * v2, b0 * v1 - b1 * v0
+            c1 = 1.0 - c
+            u0 = v0 + sn * k0 + c1 * (b1 * k2 - b2 * k1)
+            u1 = v1 + sn * k1 + c1 * (b2 * k0 - b0 * k2)
+            u2 = v2 + sn * k2 + c1 * (b0 * k1 - b1 * k0)
+            # t6 = _onto0(w5, x, zz, 0.0)
+            num = e0 * (x1_ * u2 - x2_ * u1) + e1 * (x2_ * u0 - x0_ * u2) + e2 * (x0_ * u1 - x1_ * u0)
+            den_ = (x0_ * u0 + x1_ * u1 + x2_ * u2) - xw * (u0 * e0 + u1 * e1 + u2 * e2)
+            t6 = 0.0 if hypot(num, den_) <= 1e-20 * (xx + (u0 * u0 + u1 * u1 + u2 * u2)) + 1e-300 else atan2(num, den_)
             out.append(([q1, q2, q3, t4, t5, t6], ok))
     return out
