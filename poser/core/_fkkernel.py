@@ -10,7 +10,7 @@ writes into a preallocated buffer.  This is what makes the batched FK run
 close to the cost of the joint sines and cosines alone.
 
 :func:`build_kernel` returns the function and its source, which is kept on
-the chain (``chain._fk_kernel_source``) so the generated code can be read.
+the chain (``fk.kernel_source(chain)``) so the generated code can be read.
 """
 
 from __future__ import annotations

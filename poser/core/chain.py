@@ -153,6 +153,20 @@ class Chain:
         self._head = self.base @ joints[0].pre
         self._links = tuple(joints[i].post @ joints[i + 1].pre for i in range(n - 1))
         self._tail = joints[-1].post @ self.tool
+        self._derived: dict = {}
+
+    def derived(self, key: str, make):
+        """A value computed once from this chain by ``make(chain)`` and kept with it.
+
+        A chain is not changed after it is made (its arrays are read-only), so
+        generated kernels, solver plans and other data derived from it live as
+        long as the chain.  ``key`` names the value (e.g. ``"fk_kernel"``).
+        """
+        try:
+            return self._derived[key]
+        except KeyError:
+            value = self._derived[key] = make(self)
+            return value
 
     # -- convenience -------------------------------------------------------
     @property

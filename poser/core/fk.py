@@ -88,19 +88,26 @@ def fk(chain: Chain, q, out=None):
 
 def _fk_single(chain: Chain, q) -> np.ndarray:
     """One configuration through the chain's generated scalar kernel."""
-    kernel = chain.__dict__.get("_fk_scalar")
-    if kernel is None:
-        kernel, source = build_scalar_kernel(chain._head, chain._links, chain._tail, chain.revolute)
-        chain._fk_scalar, chain._fk_scalar_source = kernel, source
+    kernel = chain.derived("fk_scalar", _make_scalar)[0]
     return np.array(kernel(q.tolist()) + ((0.0, 0.0, 0.0, 1.0),))
 
 
+def _make_scalar(c: Chain):
+    return build_scalar_kernel(c._head, c._links, c._tail, c.revolute)
+
+
+def _make_kernel(c: Chain):
+    return build_kernel(c._head, c._links, c._tail, c.revolute)
+
+
+def kernel_source(chain: Chain) -> str:
+    """The Python source of the chain's generated batched FK kernel (for reading and debugging)."""
+    return chain.derived("fk_kernel", _make_kernel)[1]
+
+
 def _kernel(chain: Chain):
-    kernel = chain.__dict__.get("_fk_kernel")
-    if kernel is None:
-        kernel, source = build_kernel(chain._head, chain._links, chain._tail, chain.revolute)
-        chain._fk_kernel, chain._fk_kernel_source = kernel, source
-    return kernel
+    """The chain's batched kernel, generated once per chain."""
+    return chain.derived("fk_kernel", _make_kernel)[0]
 
 
 _scratch = threading.local()
@@ -111,7 +118,7 @@ def _fk_chunk(chain: Chain, q, out):
 
     Scratch arrays are kept per thread and reused, so a chunk allocates nothing.
     """
-    kernel = chain._fk_kernel
+    kernel = _kernel(chain)
     m = q.shape[0]
     key = (kernel.nbuf, kernel.nrev, chain.n, m)
     bufs = getattr(_scratch, "bufs", None)

@@ -151,20 +151,20 @@ def structure_of(chain):
 
 
 def _ranks(chain):
-    """Generic rank of the position rows and of the whole Jacobian (cached)."""
-    r = chain.__dict__.get("_ik_ranks")
-    if r is None:
-        L = chain_lines(chain)
-        rng = np.random.default_rng(3)
-        q = rng.uniform(-1.0, 1.0, size=(4, chain.n)) * np.where(L.revolute, 2.5, 0.3 * L.scale)
-        _, _, J = pose_and_jacobian(L, q)
-        J = J.copy()
-        J[:, :3] /= L.scale
-        rp = int(max(np.linalg.matrix_rank(Jk[:3], tol=1e-9) for Jk in J))
-        rf = int(max(np.linalg.matrix_rank(Jk, tol=1e-9) for Jk in J))
-        r = (rp, rf)
-        chain._ik_ranks = r
-    return r
+    """Generic rank of the position rows and of the whole Jacobian (kept with the chain)."""
+    return chain.derived("ik_ranks", _make_ranks)
+
+
+def _make_ranks(chain):
+    L = chain_lines(chain)
+    rng = np.random.default_rng(3)
+    q = rng.uniform(-1.0, 1.0, size=(4, chain.n)) * np.where(L.revolute, 2.5, 0.3 * L.scale)
+    _, _, J = pose_and_jacobian(L, q)
+    J = J.copy()
+    J[:, :3] /= L.scale
+    rp = int(max(np.linalg.matrix_rank(Jk[:3], tol=1e-9) for Jk in J))
+    rf = int(max(np.linalg.matrix_rank(Jk, tol=1e-9) for Jk in J))
+    return (rp, rf)
 
 
 def _check_inputs(chain, xyz, R, near):
@@ -273,12 +273,8 @@ class _Context:
 
 
 def _context(chain) -> _Context:
-    """The :class:`_Context` of ``chain`` (cached on the chain)."""
-    cx = chain.__dict__.get("_ik_context")
-    if cx is None:
-        cx = _Context(chain)
-        chain._ik_context = cx
-    return cx
+    """The :class:`_Context` of ``chain`` (kept with the chain)."""
+    return chain.derived("ik_context", _Context)
 
 
 def _expand_turns(chain, Q, ref, hit, max_per_branch=8):

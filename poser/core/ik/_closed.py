@@ -106,11 +106,7 @@ def _stage_name(L: Lines, kind: str, tol_l: float, c0) -> str:
 
 def recognise(chain) -> Structure | None:
     """The closed-form structure of ``chain``, or None (cached on the chain)."""
-    if "_ik_structure" in chain.__dict__:
-        return chain._ik_structure
-    s = _recognise(chain)
-    chain._ik_structure = s
-    return s
+    return chain.derived("ik_structure", _recognise)
 
 
 def _recognise(chain) -> Structure | None:

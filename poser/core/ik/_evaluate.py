@@ -223,8 +223,4 @@ _VEE_SIGN = np.array([[1.0, 0.0, -1.0, 1.0], [1.0, 1.0, 0.0, -1.0], [1.0, -1.0, 
 
 def evaluator(chain) -> Evaluator:
     """The :class:`Evaluator` of ``chain`` (cached on the chain)."""
-    ev = chain.__dict__.get("_ik_evaluator")
-    if ev is None:
-        ev = Evaluator(chain)
-        chain._ik_evaluator = ev
-    return ev
+    return chain.derived("ik_evaluator", Evaluator)

@@ -66,10 +66,11 @@ class Lines:
 
 
 def chain_lines(chain) -> Lines:
-    """Joint lines of ``chain`` at q = 0 (cached on the chain)."""
-    cached = chain.__dict__.get("_ik_lines")
-    if cached is not None:
-        return cached
+    """Joint lines of ``chain`` at q = 0 (kept with the chain)."""
+    return chain.derived("ik_lines", _make_lines)
+
+
+def _make_lines(chain) -> Lines:
     G = chain._head.copy()
     o, w = [], []
     for i in range(chain.n):
@@ -84,9 +85,7 @@ def chain_lines(chain) -> Lines:
     scale = float(np.sum(np.linalg.norm(np.diff(pts, axis=0), axis=1)))
     scale += float(np.sum(np.where(chain.revolute, 0.0, np.abs(chain.upper - chain.lower))))
     scale = max(scale, 1e-9, float(np.max(np.abs(pts))) * 1e-3)
-    lines = Lines(o, w, np.array(chain.revolute), M, scale)
-    chain._ik_lines = lines
-    return lines
+    return Lines(o, w, np.array(chain.revolute), M, scale)
 
 
 # -- elementary motions --------------------------------------------------------------------------

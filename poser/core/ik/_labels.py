@@ -59,9 +59,11 @@ def _perp(v, w):
 
 
 def plan(chain) -> _Plan:
-    cached = chain.__dict__.get("_ik_label_plan")
-    if cached is not None:
-        return cached
+    """What the labels of ``chain`` are built from (kept with the chain)."""
+    return chain.derived("ik_label_plan", _make_plan)
+
+
+def _make_plan(chain) -> _Plan:
     L = chain_lines(chain)
     n, o, w, rev = L.n, L.o, L.w, L.revolute
     tiny = 1e-6 * L.scale
@@ -131,7 +133,6 @@ def plan(chain) -> _Plan:
             wrist,
             n >= 7 and S is not None and E is not None,
         )
-    chain._ik_label_plan = p
     return p
 
 
