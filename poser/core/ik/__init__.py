@@ -38,6 +38,7 @@ from __future__ import annotations
 import itertools
 import math
 import time
+from bisect import bisect_right
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -256,15 +257,41 @@ class _Context:
             kb += (kb + 1) - b < 1e-6
             wl.append((i, lo_e, hi_e, tuple(range(ka, kb + 1))))
         self.wide_limits = tuple(wl)
-        # the same as arrays: (W, C) shifts k·2π (padded with inf: never within limits), (W, 1) limits
+        # the shifts k·2π as an array (W, C) (padded with inf: never within limits)
         C = max((len(c) for *_, c in wl), default=0)
         self.wide_shift = np.full((len(wl), C), np.inf)
         for j, (*_, cand) in enumerate(wl):
             self.wide_shift[j, : len(cand)] = [k * TWO_PI for k in cand]
-        self.wide_lo = np.array([[x[1]] for x in wl]).reshape(-1, 1)
-        self.wide_hi = np.array([[x[2]] for x in wl]).reshape(-1, 1)
         self.narrow_limits = tuple(x for x in self.limits if x[0] not in self.wide)
-        self.patterns = {}  # (max_per_branch, fitting turns...) → turns and columns of the combinations
+        # per wide joint, for a value v in (-π, π]: turn k fits when lo_e <= v + k·2π <= hi_e, the sum
+        # rounded; that sum never decreases as v grows, so which turns fit changes only at the exact
+        # values `starts` (sorted): interval i = bisect_right(starts, v) has the pattern pats[i] (a byte
+        # per candidate turn, padded to C: the layout of `fits` in _expand_turns); `stride` numbers the
+        # combinations of intervals of all wide joints
+        breaks, stride = [], 1
+        for j, (_, lo_e, hi_e, cand) in enumerate(wl):
+            shifts = self.wide_shift[j].tolist()
+            starts = set()
+            for sh in shifts[: len(cand)]:
+                starts.add(_first_at_least(lo_e, sh))
+                starts.add(math.nextafter(_last_at_most(hi_e, sh), math.inf))
+            starts = sorted(starts)
+            pats = [
+                bytes(lo_e <= v + sh <= hi_e for sh in shifts)
+                for v in [math.nextafter(starts[0], -math.inf)] + starts  # a value in each interval
+            ]
+            breaks.append((starts, pats, stride, shifts))
+            stride *= len(pats)
+        self.wide_breaks = tuple(breaks)
+        # whole turns that place a revolute value in its range: 2π for the joints of at most one turn
+        # (a wide joint keeps its value in (-π, π]; its turns come from `turn_table`)
+        self.narrow_turn = np.where(rev, TWO_PI, 0.0)
+        self.narrow_turn[list(self.wide)] = 0.0
+        # offsets k·2π of the wide joints (rows of `turn_table`, 0 elsewhere) for every turns tuple met
+        self.turn_rows = {}  # turns tuple → row of turn_table
+        self.turn_list = []
+        self.turn_table = np.zeros((0, n))
+        self.patterns = {}  # (max_per_branch, interval code) → turns and turn_table rows of the combinations
         self.home = np.array(chain.home, float)
         self.home.setflags(write=False)
         self.no_turns = (0,) * n
@@ -294,67 +321,123 @@ def _expand_turns(chain, Q, ref, hit, max_per_branch=8):
     K = len(Q)
     if K == 0:
         return np.zeros((0, cx.n)), [], [], None, cx.limits
+    wide = cx.wide
     # (np.rint rounds half to even, as np.round does)
     if cx.all_rev:
         V = wrap(Q)
-        base = V + np.rint((cx.mid - V) / TWO_PI) * TWO_PI
+        turn = np.rint((cx.mid - V) / TWO_PI)
     else:
         V = np.where(cx.rev, wrap(Q), Q)
-        base = V + np.where(cx.rev, np.rint((cx.mid - V) / TWO_PI), 0.0) * TWO_PI
-    wide = cx.wide
+        turn = np.where(cx.rev, np.rint((cx.mid - V) / TWO_PI), 0.0)
     if not wide:
+        base = V + turn * TWO_PI
         return base, [cx.no_turns] * K, list(range(K)), base, cx.limits
-    # every candidate turn of every wide joint for every row at once: X (K, W, C), ok where within limits
-    W, C = len(wide), cx.wide_shift.shape[1]
-    X = V[:, cx.wide_l][:, :, None] + cx.wide_shift
-    ok = ((X >= cx.wide_lo) & (X <= cx.wide_hi)).reshape(K, W * C).tolist()
-    hit = list(hit)
+    # the joints of at most one turn placed; the wide joints still in (-π, π] (their rows break no limit:
+    # the turns chosen below fit by construction, so only the other joints' limits are checked)
+    base = V + turn * cx.narrow_turn
+    # which turns of each wide joint fit, for every row: the interval of the value (see _Context)
+    Vw = V.take(cx.wide_l, 1).T.tolist()
+    codes = [0] * K
+    for (starts, _, stride, _), col in zip(cx.wide_breaks, Vw):
+        for b, v in enumerate(col):
+            codes[b] += bisect_right(starts, v) * stride
     patterns = cx.patterns
-    turns, cols, src = [], [], []
+    turns, rows, src = [], [], []
     for b in range(K):
         if hit[b]:
             # every combination of the turns that fit, in order, at most max_per_branch: the same for
             # every row with the same pattern of fitting turns
-            key = (max_per_branch, *ok[b])
+            key = (max_per_branch, codes[b])
             ent = patterns.get(key)
             if ent is None:
-                ent = patterns[key] = _turn_combinations(cx, ok[b], max_per_branch)
+                ent = patterns[key] = _turn_combinations(cx, _fitting(cx, codes[b]), max_per_branch)
         else:
-            ent = _nearest_turns(cx, ok[b], X[b].tolist(), ref)
+            # the candidates v + k·2π of the row, as the sums the rows are made of
+            X = [[col[b] + sh for sh in shifts] for (*_, shifts), col in zip(cx.wide_breaks, Vw)]
+            ent = _nearest_turns(cx, _fitting(cx, codes[b]), X, ref)
         turns += ent[0]
-        cols += ent[1]
+        rows += ent[1]
         src += [b] * len(ent[0])
-    Qe = base[src]
-    Qe[:, cx.wide_l] = X.reshape(K, W * C)[np.array(src)[:, None], cols]
-    # the wide joints' values are within their limits by construction: every row from one row of Q
-    # breaks the same limits, those of `base` without the wide joints
-    return Qe, turns, src, base, cx.narrow_limits
+    # a wide joint's value is V + k·2π, the sum the candidates X are made of
+    return base.take(src, 0) + cx.turn_table.take(rows, 0), turns, src, base, cx.narrow_limits
 
 
-def _turn_combinations(cx, ok, max_per_branch):
-    """Turns (full tuples) and candidate columns (into X (W * C)) of every combination of fitting turns."""
+def _first_at_least(bound, shift):
+    """The smallest float v with v + shift >= bound (the sum rounded; it never decreases as v grows)."""
+    return _first_true(lambda v: v + shift >= bound, bound - shift, max(abs(bound), abs(shift)))
+
+
+def _last_at_most(bound, shift):
+    """The largest float v with v + shift <= bound."""
+    first_above = _first_true(lambda v: v + shift > bound, bound - shift, max(abs(bound), abs(shift)))
+    return math.nextafter(first_above, -math.inf)
+
+
+def _first_true(test, guess, size):
+    """The smallest float v with test(v), for a test that turns true once (and stays true) as v grows,
+    near ``guess``; ``size`` is the magnitude of the numbers compared (sets the first bracket)."""
+    step = 4.0 * math.ulp(size) + 4.0 * math.ulp(guess)
+    a, b = guess - step, guess + step
+    while test(a):
+        a -= step
+        step *= 2.0
+    while not test(b):
+        b += step
+        step *= 2.0
+    # bisection down to adjacent floats: test(a) false, test(b) true
+    while math.nextafter(a, math.inf) < b:
+        m = 0.5 * (a + b)
+        if not a < m < b:
+            m = math.nextafter(a, math.inf)
+        if test(m):
+            b = m
+        else:
+            a = m
+    return b
+
+
+def _fitting(cx, code):
+    """The fitting candidate turns (a byte each, wide joint after wide joint) of interval code ``code``."""
+    return b"".join(pats[code // stride % len(pats)] for _, pats, stride, _ in cx.wide_breaks)
+
+
+def _turn_row(cx, turns):
+    """The row of ``cx.turn_table`` with the offsets of ``turns`` (added to the table when new)."""
+    r = cx.turn_rows.get(turns)
+    if r is None:
+        r = cx.turn_rows[turns] = len(cx.turn_list)
+        cx.turn_list.append([k * TWO_PI if k else 0.0 for k in turns])
+        table = np.array(cx.turn_list)
+        table.setflags(write=False)
+        cx.turn_table = table
+    return r
+
+
+def _turn_combinations(cx, fits, max_per_branch):
+    """Turns (full tuples) and rows of ``cx.turn_table`` of every combination of fitting turns.
+
+    ``fits`` holds a byte per candidate turn (1 where it fits), wide joint after wide joint.
+    """
     C = cx.wide_shift.shape[1]
     opts = []
     for j, (_, _, _, cand) in enumerate(cx.wide_limits):
-        opts.append([(k, j * C + c) for c, k in enumerate(cand) if ok[j * C + c]])
-    turns, cols = [], []
+        opts.append([k for c, k in enumerate(cand) if fits[j * C + c]])
+    turns = []
     for combo in itertools.islice(itertools.product(*opts), max_per_branch):
         t = [0] * cx.n
-        for i, (k, _) in zip(cx.wide, combo):
+        for i, k in zip(cx.wide, combo):
             t[i] = k
         turns.append(tuple(t))
-        cols.append(tuple(c for _, c in combo))
-    return turns, cols
+    return turns, [_turn_row(cx, t) for t in turns]
 
 
-def _nearest_turns(cx, ok, X, ref):
+def _nearest_turns(cx, fits, X, ref):
     """For a row that misses the target: per wide joint the turn that fits and is the current one (0),
     else the fitting one nearest ``ref``."""
     C = cx.wide_shift.shape[1]
     t = [0] * cx.n
-    col = []
     for j, (i, _, _, cand) in enumerate(cx.wide_limits):
-        fit = [c for c in range(len(cand)) if ok[j * C + c]]
+        fit = [c for c in range(len(cand)) if fits[j * C + c]]
         if 0 in cand and cand.index(0) in fit:
             c = cand.index(0)
         else:
@@ -362,8 +445,8 @@ def _nearest_turns(cx, ok, X, ref):
             d = [abs(X[j][c] - r) for c in fit]
             c = fit[d.index(min(d))]
         t[i] = cand[c]
-        col.append(j * C + c)
-    return [tuple(t)], [tuple(col)]
+    t = tuple(t)
+    return [t], [_turn_row(cx, t)]
 
 
 def _violations(chain, q):
@@ -394,9 +477,13 @@ def _violations_many(chain, Q, limits=None):
         for i, below, above in limits:
             v = row[i]
             if v < below:
-                vs += (_violation(i, names[i], "lower", lo_l[i], v, lo_l[i] - v),)
+                x = _new(Violation)  # the object Violation(...) makes (see _violation)
+                x.__dict__.update(joint=i, name=names[i], side="lower", limit=lo_l[i], value=v, excess=lo_l[i] - v)
+                vs += (x,)
             elif v > above:
-                vs += (_violation(i, names[i], "upper", hi_l[i], v, v - hi_l[i]),)
+                x = _new(Violation)
+                x.__dict__.update(joint=i, name=names[i], side="upper", limit=hi_l[i], value=v, excess=v - hi_l[i])
+                vs += (x,)
         out.append(vs)
     return out
 
@@ -428,12 +515,13 @@ def _metrics(chain, Q, xyz, R):
     return evaluator(chain).metrics(Q, xyz, R)
 
 
-def _branches(chain, expanded, configs, metrics, near, tol, extra_words=None, keys=None):
+def _branches(chain, expanded, configs, metrics, near, tol, extra_words=None, keys=None, reach=None):
     """Branch objects for expanded rows of base configurations with ``metrics``.
 
     ``expanded`` is (Qe (E, n), turns, source index, Vb, limits) as :func:`_expand_turns` returns it:
     each row of Qe breaks the given limits of its row of Vb.
     When ``keys`` is a list, the sort key of each branch (see :func:`_solve`) is appended to it.
+    ``reach`` (one bool per base configuration: both errors within ``tol``) is computed when not given.
     """
     Qe, turns, src, Vb, limits = expanded
     if not src:
@@ -444,7 +532,8 @@ def _branches(chain, expanded, configs, metrics, near, tol, extra_words=None, ke
     if Vb is not Qe:
         viol = [viol[k] for k in src]
     dist = None if near is None else np.sqrt(((Qe - near) ** 2).sum(axis=1)).tolist()
-    reach = [pe <= tol[0] and oe <= tol[1] for pe, oe in zip(perr, oerr)]
+    if reach is None:
+        reach = [pe <= tol[0] and oe <= tol[1] for pe, oe in zip(perr, oerr)]
     words = list(configs)
     if extra_words is not None:
         for k, cfg in enumerate(words):
@@ -452,26 +541,24 @@ def _branches(chain, expanded, configs, metrics, near, tol, extra_words=None, ke
                 words[k] = f"{cfg} · {extra_words[k]}" if cfg else extra_words[k]
     labels = _context(chain).labels
     rows = list(Qe)  # (read-only views)
+    if dist is None:
+        dist = [None] * len(src)
     out = []
-    for j, k in enumerate(src):
+    append = out.append
+    for j, (k, t, q, v, d) in enumerate(zip(src, turns, rows, viol, dist)):
         w = words[k]
-        cfg = w or "single configuration"
-        t = turns[j]
         lab = labels.get((w, t))
         if lab is None:
             lab = _label(chain, w, t)
             if len(labels) > 4096:
                 labels.clear()
             labels[w, t] = lab
-        label, nturns = lab
-        v = viol[j]
-        d = None if dist is None else dist[j]
         r = reach[k]
         # the object Branch(...) makes, without the frozen __init__'s field-by-field object.__setattr__
         b = _new(Branch)
         b.__dict__.update(
-            q=rows[j],
-            label=label,
+            q=q,
+            label=lab[0],
             within_limits=not v,
             violations=v,
             position_error=perr[k],
@@ -479,12 +566,12 @@ def _branches(chain, expanded, configs, metrics, near, tol, extra_words=None, ke
             manipulability=man[k],
             distance=d,
             reaches=r,
-            configuration=cfg,
+            configuration=w or "single configuration",
             turns=t,
         )
-        out.append(b)
+        append(b)
         if keys is not None:
-            keys.append((not (r and not v), not r, 0.0 if d is None else d, nturns, j))
+            keys.append((not (r and not v), not r, 0.0 if d is None else d, lab[1], j))
     return out
 
 
@@ -514,10 +601,20 @@ def _dedupe(chain, Q, tol):
     # (the same arithmetic as wrap(): pi - (pi - d) mod 2 pi)
     rows = Q.tolist()
     rev = _context(chain).rev_l
+    if not rev:  # no joints: every row is the same
+        return [0]
     scale, pi = L.scale, math.pi
+    # distinct branches nearly always differ in the last joint (a different wrist or elbow turns the
+    # tool's last axis differently): that test alone first (the same test as in the loop; the order of
+    # the joints does not change whether every one of them is close)
+    last, r0 = len(rev) - 1, rev[-1]
     for k, qk in enumerate(rows):
+        a0 = qk[last]
         for j in keep:
             qj = rows[j]
+            d = a0 - qj[last]
+            if not (abs(pi - (pi - d) % TWO_PI) if r0 else abs(d / scale)) < tol:
+                continue
             for i, r in enumerate(rev):
                 d = qk[i] - qj[i]
                 d = abs(pi - (pi - d) % TWO_PI) if r else abs(d / scale)
@@ -683,7 +780,7 @@ def _solve(chain, xyz, R, near, tol, deadline, method, options):
         metrics, hit, configs = None, [], []
     # ordered: reaching and within limits, then reaching, then the rest; each by distance, fewer turns first
     keys = []
-    uniq = _branches(chain, _expand_turns(chain, Q, ref, hit), configs, metrics, near, tol, extra, keys)
+    uniq = _branches(chain, _expand_turns(chain, Q, ref, hit), configs, metrics, near, tol, extra, keys, hit)
     keys.sort()
     branches = tuple([uniq[k[-1]] for k in keys])
     reachable = bool(keys) and not keys[0][0]  # the first branch reaches within limits
@@ -693,7 +790,9 @@ def _solve(chain, xyz, R, near, tol, deadline, method, options):
     if not reachable and options.get("closest", True):
         closest, nearest_point = _closest(chain, xyz, R, ref, near, Q, tol, deadline, fmt_angle)
     message = _message(chain, branches, reachable, closest, nearest_point, xyz, redundant, position_only, near, tol)
-    return IKResult(
+    # the object IKResult(...) makes, without the frozen __init__'s field-by-field object.__setattr__
+    res = _new(IKResult)
+    res.__dict__.update(
         solver=solver,
         branches=branches,
         reachable=reachable,
@@ -704,6 +803,7 @@ def _solve(chain, xyz, R, near, tol, deadline, method, options):
         redundant=bool(redundant),
         tolerance=tol,
     )
+    return res
 
 
 def _closed_one(chain, st, xyz, R, ref):

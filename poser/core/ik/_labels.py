@@ -141,7 +141,8 @@ def describe(chain, Q, fmt_angle, frames=None) -> list[str]:
 
     ``frames`` is ``evaluator(chain).frames(Q)`` (:mod:`poser.core.ik._evaluate`) when already computed.
     """
-    Q = np.atleast_2d(Q)
+    if getattr(Q, "ndim", 0) != 2:
+        Q = np.atleast_2d(Q)
     pl = plan(chain)
     L: Lines = chain_lines(chain)
     if pl.S is None or pl.W is None:
@@ -153,7 +154,7 @@ def describe(chain, Q, fmt_angle, frames=None) -> list[str]:
     tiny = 1e-6 * L.scale
     lv = frames.ev.label_vectors(frames)
     if lv is not None:
-        return _describe_arm(pl, Q, tiny, *lv)
+        return _describe_arm(pl, Q, tiny, lv)
     S, W = frames.point("S"), frames.point("W")
     E = frames.point("E") if pl.E is not None else None
     cols = []  # one list of words per descriptor, each K long
@@ -229,19 +230,20 @@ def describe(chain, Q, fmt_angle, frames=None) -> list[str]:
     return [" · ".join(ws) for ws in zip(*cols)]
 
 
-def _describe_arm(pl, Q, tiny, dots, along):
+def _describe_arm(pl, Q, tiny, dots):
     """:func:`describe` for an arm with shoulder, elbow and wrist points (no swivel), row by row in floats.
 
-    ``dots`` (K, 4, 4) are the dot products and ``along`` (K, 4) the components along the base axis of
-    rel = wrist - base axis point, d = wrist - shoulder, v = elbow - shoulder and the facing direction
-    (:meth:`poser.core.ik._evaluate.Evaluator.label_vectors`); the words are those of the vector form.
+    ``dots`` (K, 5, 5) are the dot products of rel = wrist - base axis point, d = wrist - shoulder,
+    v = elbow - shoulder, the facing direction and the base axis direction (the last column: the
+    components along the base axis) (:meth:`poser.core.ik._evaluate.Evaluator.label_vectors`); the
+    words are those of the vector form.
     """
     wj = pl.wrist_joint
     qw = Q[:, wj].tolist() if wj is not None else None
     out = []
-    for k, (g, a) in enumerate(zip(dots, along)):
+    for k, g in enumerate(dots):
         g0, g1, g2 = g[0], g[1], g[2]
-        rw = a[0]
+        rw = g0[4]
         # the wrist point's distance from the base axis; on which side of it
         if sqrt(max(g0[0] - rw * rw, 0.0)) <= tiny:
             words = "wrist over the base axis"
@@ -254,7 +256,7 @@ def _describe_arm(pl, Q, tiny, dots, along):
         if npe <= tiny:
             words += " · arm stretched" if vd - g2[2] >= 0 else " · arm folded"  # v·(d - v)
         else:
-            upc = a[2] - t * a[1]  # pe along the base axis, else towards the facing direction
+            upc = g2[4] - t * g1[4]  # pe along the base axis, else towards the facing direction
             sgn = upc if abs(upc) > 1e-3 * npe else g2[3] - t * g1[3]
             words += " · elbow up" if sgn > 0 else " · elbow down"
         if wj is not None:

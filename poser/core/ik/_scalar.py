@@ -328,6 +328,7 @@ def _tuples(L: Lines, st: Structure):
             c12 = _dot(w[3], w[4])
             cr = _cross(w[3], w[4])
             extra["two_axes"] = (c12, c12 * c12 - 1.0, cr, _dot(cr, cr), _dot(w[5], w[4]))
+            extra["rev3"] = tuple(bool(r) for r in L.revolute[:3])
         cached = (o, w, tuple(L.p0.tolist()), extra)
         object.__setattr__(L, "_scalar", cached)
     return cached
@@ -390,7 +391,7 @@ def _pieper(L, st, o, w, ex, P, R, ref):
     x0 = _mv(R, ex["ax"])
     x0_, x1_, x2_ = ex["x"]
     w0, w1, w2, w3, w4, w5 = w[:6]
-    r0, r1, r2 = L.revolute[:3].tolist()
+    r0, r1, r2 = ex["rev3"]
     # constants of the wrist's two-axes subproblem (see _two_axes)
     c12, den, cr, ncr2, w2x = ex["two_axes"]
     cr0, cr1, cr2 = cr
