@@ -10,7 +10,6 @@
 from __future__ import annotations
 
 import json
-import types
 from pathlib import Path
 
 import numpy as np
@@ -85,14 +84,15 @@ def test_the_largest_accepted_values_give_finite_valid_json(tmp_path, capsys):
 
 
 def test_a_solver_fault_is_an_error_not_an_unreachable_target(monkeypatch, capsys):
-    """The core reports a fault as a result with solver 'none' (it never raises to the window);
+    """The core reports a fault as a result with status 'fault' (it never raises to the window);
     printed as "No branch reaches the target" with exit 1, a user would take it for a verdict."""
-    import poser.core.ik as ik
+    import numpy as np
 
-    fault = types.SimpleNamespace(
-        solver="none", message="The solver failed on this target (LinAlgError: SVD did not converge).",
-        branches=(), reachable=False, closest=None, nearest_point=None, position_only=True, redundant=False,
-    )
+    import poser.core.ik as ik
+    from poser.core.ik import IKResult
+
+    fault = IKResult("fault", "none", (), False, None, None, None, True, False, (1e-3, 1e-6),
+                     fault="LinAlgError: SVD did not converge", xyz=np.zeros(3))
     monkeypatch.setattr(ik, "solve", lambda *a, **k: fault)
     for extra in ([], ["--json"]):
         code, out, err = run(capsys, "ik", HERON, "--xyz", "900,-300,900", *extra)
@@ -106,12 +106,15 @@ def test_the_near_distance_carries_its_unit(capsys):
     assert "distance [deg]" in out
     code, out, _ = run(capsys, "ik", QUILL, "--xyz", "400,250,200", "--near", "0,0,20,0")
     assert code == 0
-    assert "distance [deg & mm]" in out  # a mixed arm: the distance adds degrees and millimetres
+    assert "distance [deg & mm]" in out  # a mixed arm: degrees and millimetres, given apart
     code, out, _ = run(capsys, "ik", QUILL, "--xyz", "400,250,200", "--near", "0,0,20,0", "--json")
     data = json.loads(out)
     assert data["distance_unit"] == "deg & mm"
     b = data["branches"][0]
-    assert b["distance"] == pytest.approx(np.linalg.norm(np.array(b["joints"]) - [0, 0, 20, 0]))
+    d = np.array(b["joints"]) - [0, 0, 20, 0]
+    assert b["distance"] is None  # never a sum of degrees and millimetres
+    assert b["distance_parts"]["angle"] == pytest.approx(np.linalg.norm(d[[0, 1, 3]]))
+    assert b["distance_parts"]["length"] == pytest.approx(abs(d[2]))
 
 
 def test_position_only_shows_no_orientation_error_and_large_misses_read_plainly(capsys):

@@ -141,6 +141,7 @@ class Chain:
         n = len(joints)
         self.n = n
         self.kinds = tuple(j.kind for j in joints)
+        self._names = tuple(j.name for j in joints)
         self.revolute = np.array([j.is_revolute for j in joints])
         self.revolute.setflags(write=False)
         self.lower = np.array([j.lower for j in joints])
@@ -154,6 +155,14 @@ class Chain:
         self._links = tuple(joints[i].post @ joints[i + 1].pre for i in range(n - 1))
         self._tail = joints[-1].post @ self.tool
         self._derived: dict = {}
+        size = sum(float(np.linalg.norm(j.pre[:3, 3])) + float(np.linalg.norm(j.post[:3, 3])) for j in joints)
+        size += float(np.linalg.norm(self.tool[:3, 3]))
+        size += sum(max(abs(j.lower), abs(j.upper)) for j in joints if not j.is_revolute)
+        self.scale = size if size > 1e-12 else 1.0
+        """The arm's size (its length unit): the sum of every fixed offset of the chain (each
+        joint's and the tool's) plus each prismatic joint's largest extent.  The one characteristic
+        length of Poser: it makes lengths and angles comparable (tolerances, condition numbers,
+        dimensionless errors) and sizes what the window draws.  Never zero."""
 
     def derived(self, key: str, make):
         """A value computed once from this chain by ``make(chain)`` and kept with it.
@@ -171,7 +180,8 @@ class Chain:
     # -- convenience -------------------------------------------------------
     @property
     def names(self) -> tuple[str, ...]:
-        return tuple(j.name for j in self.joints)
+        """The joints' names, base first."""
+        return self._names
 
     def check_q(self, q, name: str = "q") -> np.ndarray:
         """Validate joint values ``q`` shaped (..., n); return them as a float array."""
@@ -191,6 +201,10 @@ class Chain:
         q = self.check_q(q).copy()
         q[..., self.revolute] /= self.units.angle_to_rad
         return q
+
+    def joint_to_user(self, i: int, value):
+        """One value of joint ``i`` in internal units → the arm's units."""
+        return value / self.units.angle_to_rad if self.revolute[i] else value
 
     def with_tool(self, tool) -> Chain:
         return Chain(self.joints, self.base, tool, self.name, self.units)

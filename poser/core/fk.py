@@ -136,32 +136,64 @@ def _fk_chunk(chain: Chain, q, out):
     kernel(qT, out, b, C, S)
 
 
+def _link_plan(c: Chain) -> np.ndarray:
+    """Constants ``B`` (2n + 1, 16 n) with ``A(q) = Z(q) @ B``, ``Z = [1, s_1 … s_n, c_1 … c_n]``.
+
+    A revolute joint's motion is ``Rz(q) = M0 + sin q M1 + cos q M2``, so its
+    A-matrix ``pre Rz(q) post`` is linear in (1, sin q, cos q); a prismatic
+    joint's ``pre Tz(q) post`` is linear in (1, q) (its slot of ``s`` holds q,
+    of ``c`` holds 0).  One matrix product then gives every A-matrix of every
+    configuration.
+    """
+    n = c.n
+    M0 = np.diag([0.0, 0.0, 1.0, 1.0])
+    M1 = np.zeros((4, 4))
+    M1[0, 1], M1[1, 0] = -1.0, 1.0
+    M2 = np.diag([1.0, 1.0, 0.0, 0.0])
+    E = np.zeros((4, 4))
+    E[2, 3] = 1.0
+    B = np.zeros((2 * n + 1, n, 4, 4))
+    for i, j in enumerate(c.joints):
+        if j.is_revolute:
+            B[0, i] = j.pre @ M0 @ j.post
+            B[1 + i, i] = j.pre @ M1 @ j.post
+            B[1 + n + i, i] = j.pre @ M2 @ j.post
+        else:
+            B[0, i] = j.pre @ j.post
+            B[1 + i, i] = j.pre @ E @ j.post
+    B = B.reshape(2 * n + 1, n * 16)
+    B.setflags(write=False)
+    return B
+
+
 def link_transforms(chain: Chain, q):
     """Each joint's own transform ``pre_i @ M_i(q_i) @ post_i`` (the A-matrix of DH row i).
 
     Parameters
     ----------
     q : array_like, shape (..., n)
+        Joint values, internal units (rad; length unit).
 
     Returns
     -------
     ndarray, shape (..., n, 4, 4)
     """
     q = chain.check_q(q)
-    M = np.zeros(q.shape + (4, 4))
-    M[..., 3, 3] = 1.0
+    lead = q.shape[:-1]
+    n = chain.n
+    Q = q.reshape(-1, n)
+    K = Q.shape[0]
+    Z = np.empty((K, 2 * n + 1))
+    Z[:, 0] = 1.0
     rev = chain.revolute
-    c = np.where(rev, np.cos(q), 1.0)
-    s = np.where(rev, np.sin(q), 0.0)
-    M[..., 0, 0] = c
-    M[..., 1, 1] = c
-    M[..., 0, 1] = -s
-    M[..., 1, 0] = s
-    M[..., 2, 2] = 1.0
-    M[..., 2, 3] = np.where(rev, 0.0, q)
-    pre = np.stack([j.pre for j in chain.joints])
-    post = np.stack([j.post for j in chain.joints])
-    return pre @ M @ post
+    if rev.all():
+        np.sin(Q, out=Z[:, 1 : n + 1])
+        np.cos(Q, out=Z[:, n + 1 :])
+    else:
+        Z[:, 1 : n + 1] = np.where(rev, np.sin(Q), Q)
+        Z[:, n + 1 :] = np.where(rev, np.cos(Q), 0.0)
+    A = Z @ chain.derived("fk_link_plan", _link_plan)
+    return A.reshape(lead + (n, 4, 4))
 
 
 def frames(chain: Chain, q):
@@ -177,15 +209,18 @@ def frames(chain: Chain, q):
     ndarray, shape (..., n + 2, 4, 4)
         Index 0 is the base coordinate system (world → base), index ``i`` the
         world pose of frame ``i`` (DH frame ``i`` for a DH arm), index
-        ``n + 1`` the tool coordinate system.
+        ``n + 1`` the tool coordinate system.  The tool frame equals
+        :func:`fk` to rounding.
     """
     q = chain.check_q(q)
-    A = link_transforms(chain, q)
-    out = np.empty(q.shape[:-1] + (chain.n + 2, 4, 4))
-    T = np.broadcast_to(chain.base, q.shape[:-1] + (4, 4))
-    out[..., 0, :, :] = T
-    for i in range(chain.n):
-        T = T @ A[..., i, :, :]
-        out[..., i + 1, :, :] = T
-    out[..., chain.n + 1, :, :] = T @ chain.tool
-    return out
+    lead = q.shape[:-1]
+    n = chain.n
+    A = link_transforms(chain, q.reshape(-1, n))  # (K, n, 4, 4)
+    K = A.shape[0]
+    out = np.empty((K, n + 2, 4, 4))
+    out[:, 0] = chain.base
+    np.matmul(chain.base, A[:, 0], out=out[:, 1])
+    for i in range(1, n):
+        np.matmul(out[:, i], A[:, i], out=out[:, i + 1])
+    np.matmul(out[:, n], chain.tool, out=out[:, n + 1])
+    return out.reshape(lead + (n + 2, 4, 4))

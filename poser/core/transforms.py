@@ -29,7 +29,21 @@ __all__ = [
     "invert",
     "translation",
     "rotation_error",
+    "rotation_vector",
+    "rot_axis",
+    "wrap",
+    "TWO_PI",
 ]
+
+TWO_PI = 2.0 * np.pi
+
+
+def wrap(angle):
+    """Angles (...) radians → the same angles in (-π, π] (the one angle wrap of Poser).
+
+    Written as ``π - ((π - a) mod 2π)`` so that π stays π and -π becomes π.
+    """
+    return np.pi - np.mod(np.pi - np.asarray(angle, dtype=float), TWO_PI)
 
 
 def cos_sin(angle):
@@ -180,12 +194,79 @@ def invert(T):
 
 
 def rotation_error(Ra, Rb):
-    """Angle (radians) of the rotation taking ``Rb`` to ``Ra``; shapes (..., 3, 3) → (...)."""
+    """Angle (radians, in [0, π]) of the rotation taking ``Rb`` to ``Ra``; shapes (..., 3, 3) → (...).
+
+    The one orientation error of Poser: the IK verdicts, the numerical
+    solver's convergence test and every printed orientation miss use it.
+    Robust near 0 and π: ``atan2(|vee(Rd - Rdᵀ)| / 2, (tr Rd - 1) / 2)`` with
+    ``Rd = Rbᵀ Ra``.
+    """
     Ra = np.asarray(Ra, dtype=float)
     Rb = np.asarray(Rb, dtype=float)
+    if Rb.shape == (3, 3) and Ra.ndim == 3:
+        # many against one: trace and vee of Rbᵀ Ra are linear in Ra, one product for every row
+        tv = Ra.reshape(-1, 9) @ (Rb.take(_VEE_INDEX) * _VEE_SIGN)
+        s = 0.5 * np.sqrt(np.sum(tv[:, 1:] ** 2, axis=1))
+        return np.arctan2(s, 0.5 * (tv[:, 0] - 1.0))
     Rd = np.swapaxes(Rb, -1, -2) @ Ra
-    # Robust near 0 and π: atan2(|vee(Rd - Rd^T)|/2, (tr - 1)/2).
     v = np.stack([Rd[..., 2, 1] - Rd[..., 1, 2], Rd[..., 0, 2] - Rd[..., 2, 0], Rd[..., 1, 0] - Rd[..., 0, 1]], axis=-1)
-    s = 0.5 * np.linalg.norm(v, axis=-1)
-    c = 0.5 * (np.trace(Rd, axis1=-2, axis2=-1) - 1.0)
+    s = 0.5 * np.sqrt(np.sum(v * v, axis=-1))
+    c = 0.5 * (Rd[..., 0, 0] + Rd[..., 1, 1] + Rd[..., 2, 2] - 1.0)
     return np.arctan2(s, c)
+
+
+# With Rd = Rbᵀ Ra, Rd[r, s] = Σ_k Rb[k, r] Ra[k, s]: for the entry Ra[k, s], the trace takes Rb[k, s] and
+# vee = (Rd[2, 1] - Rd[1, 2], Rd[0, 2] - Rd[2, 0], Rd[1, 0] - Rd[0, 1]) takes Rb[k, ·] by these indices and signs.
+_VEE_INDEX = np.array(
+    [
+        [3 * k + s, 3 * k + b, 3 * k + c, 3 * k + d]
+        for k in range(3)
+        for s, b, c, d in ((0, 0, 2, 1), (1, 2, 0, 0), (2, 1, 0, 0))
+    ]
+)
+_VEE_SIGN = np.array([[1.0, 0.0, -1.0, 1.0], [1.0, 1.0, 0.0, -1.0], [1.0, -1.0, 1.0, 0.0]] * 3)
+
+
+def rotation_vector(R):
+    """Rotation vectors (axis times angle, radians) of rotations ``R`` (..., 3, 3) → (..., 3).
+
+    The angle is :func:`rotation_error` of ``R`` against the identity, so the
+    length of the vector is in [0, π].  Near π the axis comes from the
+    symmetric part of ``R`` (the antisymmetric part vanishes there).
+    """
+    R = np.asarray(R, dtype=float)
+    if R.ndim < 2 or R.shape[-2:] != (3, 3):
+        raise PoserValueError(f"R must have shape (..., 3, 3), got shape {R.shape}")
+    v = np.stack([R[..., 2, 1] - R[..., 1, 2], R[..., 0, 2] - R[..., 2, 0], R[..., 1, 0] - R[..., 0, 1]], axis=-1)
+    s = 0.5 * np.sqrt(np.sum(v * v, axis=-1))
+    c = 0.5 * (R[..., 0, 0] + R[..., 1, 1] + R[..., 2, 2] - 1.0)
+    ang = np.arctan2(s, c)
+    small = s < 1e-9
+    fac = np.where(small, 0.5, ang / (2.0 * np.where(small, 1.0, s)))
+    out = v * fac[..., None]
+    near_pi = small & (c < 0.0)
+    if np.any(near_pi):
+        B = R[near_pi] + np.eye(3)  # (k, 3, 3): columns along the axis
+        k = np.argmax(np.linalg.norm(B, axis=-2), axis=-1)
+        axis = B[np.arange(len(k)), :, k]
+        axis /= np.linalg.norm(axis, axis=-1, keepdims=True)
+        out[near_pi] = np.pi * axis
+    return out
+
+
+def rot_axis(axis, angle):
+    """Rotation matrices about unit direction(s) ``axis`` (..., 3) by ``angle`` (...) radians → (..., 3, 3).
+
+    Rodrigues' formula ``I + sin θ K + (1 - cos θ) K²`` with ``K`` the
+    cross-product matrix of the axis (the one Rodrigues of Poser's array code;
+    the closed-form subproblems write the same formula on components).
+    """
+    w = _as_points("axis", axis)
+    th = np.asarray(angle, dtype=float)
+    c, s = cos_sin(th)
+    shape = np.broadcast_shapes(w.shape[:-1], th.shape)
+    w = np.broadcast_to(w, shape + (3,))
+    K = np.zeros(shape + (3, 3))
+    K[..., 0, 1], K[..., 0, 2], K[..., 1, 2] = -w[..., 2], w[..., 1], -w[..., 0]
+    K[..., 1, 0], K[..., 2, 0], K[..., 2, 1] = w[..., 2], -w[..., 1], w[..., 0]
+    return np.eye(3) + np.asarray(s)[..., None, None] * K + (1.0 - np.asarray(c))[..., None, None] * (K @ K)

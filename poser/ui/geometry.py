@@ -13,17 +13,15 @@ import numpy as np
 from scipy.spatial.transform import Rotation
 
 from poser.core.chain import Chain
-from poser.core.jacobian import jacobian, joint_axes, manipulability
+from poser.core.jacobian import joint_axes
 
 __all__ = [
     "ArmDrawing",
     "arm_drawing",
-    "arm_scale",
     "segment_transform",
     "axis_body_transform",
     "nice_spacing",
     "bounds_of",
-    "singularity_metrics",
     "ToolTrail",
     "ORIENTATION_MODES",
     "rotation_from_values",
@@ -104,21 +102,6 @@ def arm_drawing(chain: Chain, q) -> ArmDrawing:
     return ArmDrawing(seg, origins, axes, tuple(chain.kinds), F)
 
 
-def arm_scale(chain: Chain) -> float:
-    """A characteristic length of the arm (its unit): the sum of every fixed offset plus prismatic strokes.
-
-    Used to size link bodies, triads and the grid, and to make Jacobian
-    rows dimensionless.  Never zero.
-    """
-    total = 0.0
-    for j in chain.joints:
-        total += float(np.linalg.norm(j.pre[:3, 3])) + float(np.linalg.norm(j.post[:3, 3]))
-        if not j.is_revolute:
-            total += max(abs(j.lower), abs(j.upper))
-    total += float(np.linalg.norm(chain.tool[:3, 3]))
-    return total if total > _EPS else 1.0
-
-
 def _basis_from_z(z):
     """A right-handed basis (3, 3) whose third column is the direction of ``z`` (plain floats: it runs per body)."""
     zx, zy, zz = (float(v) for v in z)
@@ -178,33 +161,6 @@ def bounds_of(points) -> tuple[np.ndarray, float]:
     centre = 0.5 * (lo + hi)
     radius = 0.5 * float(np.linalg.norm(hi - lo))
     return centre, max(radius, _EPS)
-
-
-def singularity_metrics(chain: Chain, q, scale: float | None = None) -> tuple[float, float, float]:
-    """Manipulability and condition numbers at ``q`` (n,) internal units.
-
-    Returns
-    -------
-    w : float
-        Yoshikawa manipulability of the Jacobian as the core gives it (length unit for linear rows).
-    kappa : float
-        Condition number of the Jacobian with its linear rows divided by ``scale``
-        (default :func:`arm_scale`) and prismatic columns multiplied by it, so it does
-        not depend on the length unit; ``inf`` at a singularity.
-    w_scaled : float
-        Manipulability of that dimensionless Jacobian.
-    """
-    J = jacobian(chain, np.asarray(q, float))
-    L = arm_scale(chain) if scale is None else scale
-    Js = J.copy()
-    Js[:3] /= L
-    Js[:, ~chain.revolute] *= L  # a prismatic column is length per length: scale it back
-    # Use only the rows the arm can act on at all (a planar arm moves in 3 of 6 directions).
-    rank_rows = min(J.shape)
-    s = np.linalg.svd(Js, compute_uv=False)[:rank_rows]
-    w_scaled = float(np.prod(s))
-    kappa = float(s[0] / s[-1]) if s[-1] > 1e-12 * max(s[0], 1e-300) else math.inf
-    return float(manipulability(J)), kappa, w_scaled
 
 
 class ToolTrail:
@@ -333,7 +289,7 @@ def distinct_drawings(chain: Chain, qs, tol: float = 1e-6):
     drawings: list[ArmDrawing] = []
     keys: list[np.ndarray] = []
     index = []
-    scale = arm_scale(chain)
+    scale = chain.scale
     for q in qs:
         d = arm_drawing(chain, q)
         key = np.concatenate([d.frames[:, :3, 3].reshape(-1) / scale, d.frames[:, :3, :3].reshape(-1)])

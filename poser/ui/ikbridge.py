@@ -22,8 +22,8 @@ def available() -> bool:
     return _solve is not None
 
 
-def solve(chain, xyz, R=None, near=None, time_budget: float = 0.05):
+def solve(chain, xyz, R=None, near=None, **options):
     """Call ``poser.core.ik.solve``; raises RuntimeError when IK is missing."""
     if _solve is None:
         raise RuntimeError(IK_MISSING)
-    return _solve(chain, xyz, R=R, near=near, time_budget=time_budget)
+    return _solve(chain, xyz, R=R, near=near, **options)

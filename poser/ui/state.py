@@ -18,10 +18,11 @@ from pathlib import Path
 import numpy as np
 from PySide6.QtCore import QObject, Signal
 
+from poser import report
 from poser.armfile import ArmSpec
 from poser.core.chain import Chain
 from poser.core.fk import link_transforms
-from poser.ui import geometry, words
+from poser.ui import geometry
 
 __all__ = ["PoseState", "Target", "FIELDS", "DEFAULT_OPTIONS"]
 
@@ -180,18 +181,20 @@ class PoseState(QObject):
     def drawing(self) -> geometry.ArmDrawing:
         return self._cached("drawing", lambda: geometry.arm_drawing(self._chain, self._q))
 
-    def metrics(self) -> tuple[float, float, float]:
-        """(manipulability, dimensionless condition number, dimensionless manipulability)."""
-        return self._cached("metrics", lambda: geometry.singularity_metrics(self._chain, self._q, self.scale))
+    def singularity(self):
+        """The pose's singularity verdict (:class:`poser.core.singularity.Singularity`: level, condition,
+        manipulability, kinds with their joints)."""
+        from poser.core.singularity import assess
+
+        return self._cached("singularity", lambda: assess(self._chain, self._q))
 
     @property
     def scale(self) -> float:
-        return self._cached("scale", lambda: geometry.arm_scale(self._chain))
+        """The arm's size (:attr:`poser.core.chain.Chain.scale`)."""
+        return self._chain.scale
 
-    def limit_states(self) -> list[words.LimitState]:
-        lo, hi = self.limits_user
-        units = [self.unit_of(i) for i in range(self._chain.n)]
-        return words.limit_states(self.q_user, lo, hi, self._options["margin"], units)
+    def limit_states(self) -> list[report.LimitState]:
+        return report.limit_states(self._chain, self._q, self._options["margin"])
 
     # -- writing ----------------------------------------------------------------------
     def _emit(self, field: str, writer=None):
@@ -203,10 +206,7 @@ class PoseState(QObject):
             self.writer = prev
 
     def _drop_cache(self, keep_scale: bool = True):
-        scale = self._cache.get("scale") if keep_scale else None
         self._cache.clear()
-        if scale is not None:
-            self._cache["scale"] = scale
 
     def set_q(self, q, writer=None) -> bool:
         """Set every joint value (n,), internal units. Returns True when something changed."""

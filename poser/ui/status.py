@@ -4,10 +4,10 @@ from __future__ import annotations
 
 from PySide6.QtWidgets import QHBoxLayout, QLabel, QSizePolicy, QStatusBar, QWidget
 
+from poser import report
 from poser.ui import palette
 from poser.ui.elided import ElidedLabel
 from poser.ui.state import PoseState
-from poser.ui.words import MANIPULABILITY_TIP, fmt, manipulability_text, manipulability_unit, singularity_words
 
 
 def short_render_note(note: str) -> str:
@@ -58,22 +58,21 @@ class PoseStatusBar(QStatusBar):
 
     def singularity_text(self) -> tuple[str, str]:
         """(level, text) of the singularity label: the verdict first, then the figures behind it."""
-        w, kappa, w_n = self.state.metrics()
-        level, verdict = singularity_words(kappa)
-        return level, f"{verdict} · condition {fmt(kappa, 1)} · manipulability {manipulability_text(w_n)}"
+        st = self.state
+        s = st.singularity()
+        level, verdict = report.singularity_words(st.chain, s, short=True)
+        return level, (f"{verdict} · condition {report.condition_text(s.condition)} · manipulability "
+                       f"{report.manipulability_text(st.chain, s.manipulability)}")
 
     def _refresh(self) -> None:
         st = self.state
-        w, kappa, w_n = st.metrics()
         level, text = self.singularity_text()
         self.singular.setText(text)
-        unit = manipulability_unit(st.chain)
-        raw = f"{w:.3g} {unit}" if unit else f"{w:.3g} (mixed units: fewer than six joints)"
+        long = report.singularity_words(st.chain, st.singularity())[1]
         self.singular.setToolTip(
-            f"{text}\n\ncondition number: ratio of the Jacobian's largest to smallest singular value, lengths "
-            f"divided by the arm's size L = {fmt(st.scale, 1)} {st.chain.units.length} (no unit; 1 is ideal, "
-            f"infinite at a singularity; above 80 Poser warns).\n{MANIPULABILITY_TIP}\n"
-            f"Raw manipulability in the arm's units: {raw}."
+            f"{long}\n\ncondition number: ratio of the Jacobian's largest to smallest singular value, lengths "
+            f"divided by the arm's size L = {report.fmt(st.scale, 1)} {st.chain.units.length} (no unit; 1 is ideal, "
+            f"infinite at a singularity; above 80 Poser warns).\n{report.manipulability_tip(st.chain)}"
         )
         self._style(self.singular, level)
         states = st.limit_states()

@@ -18,6 +18,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from poser import report
 from poser.ui import geometry, ikbridge, palette, words
 from poser.ui.animate import JointAnimator
 from poser.ui.solver import TargetSolver
@@ -30,7 +31,8 @@ HEADER_TIPS = (
     "branch number",
     "how the arm is set up in this branch (the whole label is also in the line below the list)",
     "yes when every joint is inside its limits; otherwise NO and the joint furthest beyond a limit",
-    words.MANIPULABILITY_TIP,
+    "manipulability: Yoshikawa's measure over the directions the arm controls, in the arm's units; "
+    "0 at a singularity (the unit is in the column header's tooltip and the status bar's)",
     "the largest single joint move from the present pose (which joint: hover the cell, or see below the list)",
 )
 LIMIT_COL_MAX = 140
@@ -42,14 +44,7 @@ DECIMALS = {"mm": 3, "m": 5, "in": 4, "deg": 3, "rad": 5}
 """Decimals of the target fields by unit (a tenth of a micrometre-ish, a thousandth of a degree)."""
 
 
-def limits_cell(chain, branch) -> str:
-    """``"yes"`` or ``"NO: J5 wrist bend 44.9 deg under"`` (the worst violation, shortened)."""
-    if branch.within_limits:
-        return "yes"
-    worst = words.worst_violation(chain, branch)
-    if worst == "none":
-        return "NO"
-    return "NO: " + worst.replace(": ", " ", 1).replace(" over upper", " over").replace(" under lower", " under")
+limits_cell = words.limits_cell
 
 
 class TargetPanel(QWidget):
@@ -275,10 +270,17 @@ class TargetPanel(QWidget):
         self.summary.setText(text)
         self.summary.setStyleSheet(f"color: {colour}")
 
-    def _branch_metrics(self) -> list[tuple[float, float]]:
-        """(normalised manipulability, condition number) of every branch, as the status bar computes them."""
+    def _branch_metrics(self) -> list[tuple[str, str, float]]:
+        """(singularity level, singularity words, condition number) of every branch (the status bar's verdict)."""
+        from poser.core.singularity import assess
+
         st = self.state
-        return [geometry.singularity_metrics(st.chain, b.q, st.scale)[1:][::-1] for b in st.branches]
+        out = []
+        for b in st.branches:
+            s = assess(st.chain, b.q)
+            level, w = words.singularity_words(st.chain, s)
+            out.append((level, w, s.condition))
+        return out
 
     def _fill_table(self) -> None:
         st = self.state
@@ -288,22 +290,24 @@ class TargetPanel(QWidget):
         self._metrics = self._branch_metrics()
         with QSignalBlocker(self.table):
             self.table.setRowCount(len(branches))
-            for r, (b, (w_n, kappa)) in enumerate(zip(branches, self._metrics)):
+            for r, (b, (s_level, s_words, kappa)) in enumerate(zip(branches, self._metrics)):
                 limits = limits_cell(chain, b)
                 reaches = getattr(b, "reaches", True)
                 label = b.label if reaches else f"{b.label} — {words.miss_words(chain, b, position_only)}"
-                s_level, s_words = words.singularity_words(kappa)
-                manip = words.manipulability_text(w_n)
+                if b.family is not None:
+                    label += " · family"
+                manip = words.manipulability_text(chain, b.manipulability)
                 if s_level != "ok":
                     manip += " singular" if s_level == "at" else " near singular"
-                joint, size = words.largest_move_parts(chain, st.q, b.q)
+                move = words.largest_move(chain, st.q, b.q)
+                size = move.split(" by ", 1)[-1] if "; " not in move else move
+                fam = f"\n{report.family_words(chain, b.family)}" if b.family is not None else ""
                 cells = (
                     (str(r + 1), f"branch {r + 1}"),
-                    (label, label),
-                    (limits, "; ".join(words.all_violations(chain, b)) or "every joint within its limits"),
-                    (manip, f"manipulability {manip} (normalised, no unit), condition {words.fmt(kappa, 1)}: "
-                            f"{s_words}"),
-                    (size, f"largest joint move from the present pose: {joint} by {size}"),
+                    (label, label + fam),
+                    (limits, "; ".join(words.violations_words(chain, b.violations)) or "every joint within its limits"),
+                    (manip, f"manipulability {manip}, condition {words.fmt(kappa, 1)}: {s_words}"),
+                    (size, f"largest joint move from the present pose: {move}"),
                 )
                 for c, (text, tip) in enumerate(cells):
                     item = QTableWidgetItem(text)
@@ -320,7 +324,7 @@ class TargetPanel(QWidget):
             self.table.clearSelection()
         self._fit_columns()
         level, text = words.ik_summary(chain, st.ik)
-        tip = words.ik_details(st.ik)
+        tip = "" if st.ik is None else f"solver: {st.ik.solver}\n{words.ik_message(chain, st.ik)}"
         if st.ik is None and st.target is not None:
             level, text = ("ok", "Solving…" if ikbridge.available() else f"Not solved: {ikbridge.IK_MISSING}.")
         elif st.target is None:
@@ -343,22 +347,23 @@ class TargetPanel(QWidget):
         self.table.resizeRowsToContents()  # the label column's width changed: its wrapping too
 
     def details_text(self, i: int) -> str:
-        """Branch ``i`` in one or two lines: verdict with every violation, singularity figures, largest move."""
+        """Branch ``i`` in one or two lines: verdict with every violation, family, singularity figures, largest move."""
         st = self.state
         chain = st.chain
         b = st.branches[i]
-        w_n, kappa = self._metrics[i] if i < len(self._metrics) else (float("nan"), float("nan"))
+        s_level, s_words, kappa = self._metrics[i] if i < len(self._metrics) else ("ok", "", float("nan"))
         parts = [f"Branch {i + 1}"]
         if not getattr(b, "reaches", True):
             parts.append(words.miss_words(chain, b, bool(getattr(st.ik, "position_only", False))))
         if b.within_limits:
             parts.append("every joint within its limits")
         else:
-            parts.append("BEYOND LIMITS: " + "; ".join(words.all_violations(chain, b)))
-        level, s_words = words.singularity_words(kappa)
-        parts.append(f"manipulability {words.manipulability_text(w_n)}, condition {words.fmt(kappa, 1)} ({s_words})")
-        joint, size = words.largest_move_parts(chain, st.q, b.q)
-        parts.append(f"largest move from here: {joint} by {size}")
+            parts.append("BEYOND LIMITS: " + "; ".join(words.violations_words(chain, b.violations)))
+        if b.family is not None:
+            parts.append(report.family_words(chain, b.family))
+        parts.append(f"manipulability {words.manipulability_text(chain, b.manipulability)}, condition "
+                     f"{words.fmt(kappa, 1)} ({s_words})")
+        parts.append(f"largest move from here: {words.largest_move(chain, st.q, b.q)}")
         return " · ".join(parts) + "."
 
     def _show_details(self) -> None:
@@ -368,7 +373,7 @@ class TargetPanel(QWidget):
             b = st.branches[st.selected]
             tip = f"move the arm to branch {st.selected + 1}"
             if not b.within_limits:
-                tip += " — BEYOND joint limits: " + "; ".join(words.all_violations(st.chain, b))
+                tip += " — BEYOND joint limits: " + "; ".join(words.violations_words(st.chain, b.violations))
             if not getattr(b, "reaches", True):
                 tip += " — it does not reach the target"
         self.apply_button.setToolTip(tip)
@@ -392,9 +397,9 @@ class TargetPanel(QWidget):
             item = self.table.item(r, 4)
             if item is None:
                 continue
-            joint, size = words.largest_move_parts(st.chain, st.q, b.q)
-            item.setText(size)
-            item.setToolTip(f"largest joint move from the present pose: {joint} by {size}")
+            move = words.largest_move(st.chain, st.q, b.q)
+            item.setText(move.split(" by ", 1)[-1] if "; " not in move else move)
+            item.setToolTip(f"largest joint move from the present pose: {move}")
         self._show_details()
 
     def _from_selection(self) -> None:

@@ -10,7 +10,7 @@ from poser.armfile import load
 from poser.core.dh import DHRow, chain_from_dh
 from poser.core.errors import PoserValueError
 from poser.core.fk import fk, frames
-from poser.core.jacobian import condition_number, jacobian, joint_axes, limit_margins, manipulability
+from poser.core.jacobian import condition_number, jacobian, joint_axes, limit_margins, manipulability, task_space
 
 DEMO_DIR = Path(__file__).resolve().parents[2] / "demo_arms"
 
@@ -82,21 +82,61 @@ def test_joint_axes_are_the_dh_z_axes():
     np.testing.assert_allclose(np.cross(o - F[1:3, :3, 3], z), 0.0, atol=1e-15)
 
 
-def test_manipulability_is_sqrt_det_j_jt(rng):
-    # Yoshikawa, "Manipulability of robotic mechanisms", Int. J. Robotics Research, 1985:
-    # w = sqrt(det(J J^T)).  For fewer joints than rows the same quantity over the joints, sqrt(det(J^T J)).
-    for name in ("heron6.toml", "lark7.toml", "boom3.toml"):
+def test_manipulability_is_sqrt_det_j_jt_over_the_task_space(rng):
+    # Yoshikawa, "Manipulability of robotic mechanisms", Int. J. Robotics Research, 1985 (from memory):
+    # w = sqrt(det(J J^T)) of the Jacobian of the task the arm controls — the full pose for six or more
+    # axes (a square J: |det J|), the position for a three-axis positioning arm (|det J_v|).
+    for name, rows in (("heron6.toml", slice(0, 6)), ("lark7.toml", slice(0, 6)), ("boom3.toml", slice(0, 3))):
         chain = load(DEMO_DIR / name).to_chain()
         q = rng.uniform(chain.lower, chain.upper, (6, chain.n))
-        J = jacobian(chain, q)
-        w = manipulability(J)
+        J = jacobian(chain, q)[:, rows, :]
+        w = manipulability(chain, q)
         assert w.shape == (6,)
-        if chain.n >= 6:
-            ref = np.sqrt(np.linalg.det(J @ np.swapaxes(J, -1, -2)))
-        else:
-            ref = np.sqrt(np.linalg.det(np.swapaxes(J, -1, -2) @ J))
+        ref = np.sqrt(np.linalg.det(J @ np.swapaxes(J, -1, -2)))
         np.testing.assert_allclose(w, ref, rtol=1e-8)
-        np.testing.assert_allclose(condition_number(J), np.linalg.cond(J), rtol=1e-8)
+        np.testing.assert_allclose(manipulability(chain, J=jacobian(chain, q)), ref, rtol=1e-8)
+
+
+def test_task_spaces_and_units_of_the_demo_arms():
+    expect = {
+        "heron6.toml": ("full pose", 6, "mm³"),
+        "lark7.toml": ("full pose", 6, "m³"),
+        "wren6.toml": ("full pose", 6, "mm³"),
+        "boom3.toml": ("position", 3, "m²"),  # two turns (m each) and a slide (m per m)
+        "planar3.toml": ("in-plane position and turn", 3, "mm²"),
+        "quill4.toml": ("position and turn about the joint axes", 4, "mm²"),
+    }
+    for name, (words, rank, unit) in expect.items():
+        chain = load(DEMO_DIR / name).to_chain()
+        ts = task_space(chain)
+        assert (ts.name, ts.rank, ts.unit(chain.units.length)) == (words, rank, unit)
+
+
+def test_planar_two_link_manipulability_is_the_textbook_closed_form(rng):
+    # Yoshikawa 1985 (the two-link example, from memory): w = |l1 l2 sin θ2|; zero stretched out or folded.
+    for l1, l2 in ((0.7, 0.4), (300.0, 200.0)):
+        chain = chain_from_dh([DHRow("1", "revolute", a=l1), DHRow("2", "revolute", a=l2)])
+        q = rng.uniform(-np.pi, np.pi, (50, 2))
+        np.testing.assert_allclose(manipulability(chain, q), np.abs(l1 * l2 * np.sin(q[:, 1])), rtol=1e-10, atol=1e-14)
+        for stretched in ([0.3, 0.0], [1.2, np.pi], [-2.0, -np.pi]):
+            assert manipulability(chain, stretched) == 0.0
+            assert condition_number(chain, stretched) == np.inf
+    # the same arm in mm and in m: length² scales by exactly 10⁶
+    mm = chain_from_dh([DHRow("1", "revolute", a=700.0), DHRow("2", "revolute", a=400.0)])
+    m = chain_from_dh([DHRow("1", "revolute", a=0.7), DHRow("2", "revolute", a=0.4)])
+    q = rng.uniform(-np.pi, np.pi, (20, 2))
+    np.testing.assert_allclose(manipulability(mm, q) / manipulability(m, q), 1e6, rtol=1e-12)
+    np.testing.assert_allclose(condition_number(mm, q), condition_number(m, q), rtol=1e-9)
+
+
+def test_planar_three_link_manipulability_in_position_and_turn(rng):
+    # For (x, y, φ) of a planar 3R arm the Jacobian's determinant is l1 l2 sin θ2 — the third link only
+    # shifts the point (a two-line derivation; Siciliano et al., sec. 3.3, from memory).
+    rows = [DHRow("1", "revolute", a=0.5), DHRow("2", "revolute", a=0.35), DHRow("3", "revolute", a=0.1)]
+    chain = chain_from_dh(rows)
+    q = rng.uniform(-np.pi, np.pi, (40, 3))
+    np.testing.assert_allclose(manipulability(chain, q), np.abs(0.5 * 0.35 * np.sin(q[:, 1])), rtol=1e-10, atol=1e-14)
+    assert manipulability(chain, [0.3, 0.0, 1.0]) == 0.0
 
 
 def test_elbow_arm_position_jacobian_determinant(rng):
@@ -107,14 +147,14 @@ def test_elbow_arm_position_jacobian_determinant(rng):
     chain = chain_from_dh(
         [DHRow("1", "revolute", alpha=np.pi / 2, d=d1), DHRow("2", "revolute", a=a2), DHRow("3", "revolute", a=a3)]
     )
+    assert task_space(chain).name == "position"
     q = rng.uniform(-np.pi, np.pi, (100, 3))
     Jv = jacobian(chain, q)[:, :3, :]
     c2, c23, s3 = np.cos(q[:, 1]), np.cos(q[:, 1] + q[:, 2]), np.sin(q[:, 2])
     np.testing.assert_allclose(np.linalg.det(Jv), -a2 * a3 * s3 * (a2 * c2 + a3 * c23), atol=1e-14)
-    np.testing.assert_allclose(manipulability(Jv), np.abs(a2 * a3 * s3 * (a2 * c2 + a3 * c23)), atol=1e-14)
-    stretched = jacobian(chain, [0.4, 0.3, 0.0])[:3]
-    assert manipulability(stretched) < 1e-15
-    assert condition_number(stretched) > 1e14
+    np.testing.assert_allclose(manipulability(chain, q), np.abs(a2 * a3 * s3 * (a2 * c2 + a3 * c23)), atol=1e-14)
+    assert manipulability(chain, [0.4, 0.3, 0.0]) == 0.0
+    assert condition_number(chain, [0.4, 0.3, 0.0]) == np.inf
 
 
 def test_manipulability_zero_with_the_elbow_stretched_out_heron6():
@@ -126,15 +166,15 @@ def test_manipulability_zero_with_the_elbow_stretched_out_heron6():
     q_bent = chain.q_from_user([10.0, 30.0, 0.0, 20.0, 40.0, 50.0])
     q_stretched = q_bent.copy()
     q_stretched[2] = t3
-    w_bent = manipulability(jacobian(chain, q_bent))
-    w_stretched = manipulability(jacobian(chain, q_stretched))
-    assert w_bent > 1e6  # mm-scale arm: a healthy pose has a large measure
+    w_bent = manipulability(chain, q_bent)
+    w_stretched = manipulability(chain, q_stretched)
+    assert w_bent > 1e6  # mm-scale arm: a healthy pose has a large measure (mm³)
     assert w_stretched < 1e-12 * w_bent
-    assert condition_number(jacobian(chain, q_stretched)) > 1e12
+    assert condition_number(chain, q_stretched) > 1e12
     # just off the singularity the measure grows again, linearly in the distance
     q_near = q_stretched.copy()
     q_near[2] += 1e-3
-    w_near = manipulability(jacobian(chain, q_near))
+    w_near = manipulability(chain, q_near)
     assert 1e-8 * w_bent < w_near < 1e-1 * w_bent
     # the stretched pose puts the wrist centre (frame 4 origin) on the line through J2 and J3
     F = frames(chain, q_stretched)
@@ -145,10 +185,9 @@ def test_manipulability_zero_with_the_elbow_stretched_out_heron6():
 def test_condition_number_is_infinite_at_an_exact_singularity():
     # Two-link planar arm stretched out: the planar position Jacobian [[0, 0], [a1 + a2, a2]] is singular.
     chain = chain_from_dh([DHRow("1", "revolute", a=1.0), DHRow("2", "revolute", a=0.5)])
-    Jp = jacobian(chain, [0.0, 0.0])[:2]
-    assert manipulability(Jp) == 0.0
-    assert condition_number(Jp) == np.inf
-    assert condition_number(np.eye(3)) == 1.0
+    assert manipulability(chain, [0.0, 0.0]) == 0.0
+    assert condition_number(chain, [0.0, 0.0]) == np.inf
+    assert condition_number(chain, [0.0, np.pi / 2]) < 10
 
 
 def test_limit_margins():
@@ -172,7 +211,9 @@ def test_wrong_shapes_are_refused():
         jacobian(chain, np.zeros(4))
     with pytest.raises(PoserValueError, match=r"^q must have shape \(\.\.\., 3\), got shape \(2, 2\)$"):
         limit_margins(chain, np.zeros((2, 2)))
-    with pytest.raises(PoserValueError, match=r"^J must have shape \(\.\.\., m, n\), got shape \(6,\)$"):
-        manipulability(np.zeros(6))
-    with pytest.raises(PoserValueError, match=r"^J must have shape \(\.\.\., m, n\), got shape \(\)$"):
-        condition_number(1.0)
+    with pytest.raises(PoserValueError, match=r"^J must have shape \(\.\.\., 6, 3\), got shape \(6,\)$"):
+        manipulability(chain, J=np.zeros(6))
+    with pytest.raises(PoserValueError, match=r"^q must have shape \(\.\.\., 3\), got shape \(\)$"):
+        condition_number(chain, 1.0)
+    with pytest.raises(PoserValueError, match="give q"):
+        manipulability(chain)

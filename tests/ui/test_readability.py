@@ -29,26 +29,27 @@ def test_joint_types_are_named_in_the_trade_with_their_unit():
     assert short == "linear joint, mm" and "slides along its axis" in tip and "length in mm" in tip
 
 
-def test_manipulability_text_has_three_digits_and_says_zero_at_a_singularity():
-    assert words.manipulability_text(0.022734) == "0.0227"
-    assert words.manipulability_text(1.2345) == "1.23"
-    assert words.manipulability_text(0.0) == "0"
-    assert words.manipulability_text(3e-6) == "< 0.0001"
-    assert words.manipulability_text(float("nan")) == "–"
+def test_manipulability_text_has_four_digits_its_unit_and_says_zero_at_a_singularity():
+    heron, boom = chain_of("heron6"), chain_of("boom3")
+    assert words.manipulability_text(heron, 4.6347e8) == "4.635e+08 mm³"
+    assert words.manipulability_text(boom, 0.022734) == "0.02273 m²"
+    assert words.manipulability_text(boom, 0.36) == "0.3600 m²"
+    assert words.manipulability_text(heron, 0.0) == "0 mm³"
+    assert words.manipulability_text(heron, float("nan")) == "–"
 
 
-def test_the_raw_manipulability_unit_is_given_only_where_it_is_one_unit():
-    # sqrt(det(J J^T)) scales as length^3 when every column is revolute and there are six or more of them;
-    # a prismatic column carries no length, so a six-joint arm loses one power per prismatic joint.
+def test_the_manipulability_unit_is_the_task_spaces():
+    # |det| of the task-space Jacobian: length^(linear task rows - prismatic joints) for a square one
+    # (see poser.core.jacobian.TaskSpace); six revolute axes give length³.
     assert words.manipulability_unit(chain_of("heron6")) == "mm³"
     assert words.manipulability_unit(chain_of("lark7")) == "m³"
-    assert words.manipulability_unit(chain_of("boom3")) is None  # three joints: rows and columns mix units
-    assert words.manipulability_unit(chain_of("quill4")) is None
+    assert words.manipulability_unit(chain_of("boom3")) == "m²"  # position: 3 rows, one slide
+    assert words.manipulability_unit(chain_of("quill4")) == "mm²"  # x, y, z and turn: 3 linear rows, one slide
 
 
 def test_the_raw_unit_claim_holds_numerically():
     """Scaling every length of Heron 6 by 1000 multiplies the raw manipulability by 1000³ (mm³ → m³ check)."""
-    from poser.core.jacobian import jacobian, manipulability
+    from poser.core.jacobian import manipulability
 
     spec = armfile.load(DEMO / "heron6.toml")
     spec_m = spec.copy()
@@ -60,10 +61,10 @@ def test_the_raw_unit_claim_holds_numerically():
         j.a, j.d = j.a / 1000, j.d / 1000
     mm, m = spec.to_chain(), spec_m.to_chain()
     q = np.radians([20, 30, 20, 30, -40, 10])
-    w_mm, w_m = float(manipulability(jacobian(mm, q))), float(manipulability(jacobian(m, q)))
+    w_mm, w_m = float(manipulability(mm, q)), float(manipulability(m, q))
     assert w_mm == pytest.approx(w_m * 1000**3, rel=1e-9)
-    # the normalised figure the window shows does not change with the unit
-    assert geometry.singularity_metrics(mm, q)[2] == pytest.approx(geometry.singularity_metrics(m, q)[2], rel=1e-9)
+    # the window shows it with its unit, so the two read as the same arm
+    assert words.manipulability_text(mm, w_mm).endswith("mm³") and words.manipulability_text(m, w_m).endswith("m³")
 
 
 def test_a_miss_in_orientation_is_not_reported_as_a_zero_distance():
@@ -177,7 +178,7 @@ def test_branch_list_fits_its_panel_and_agrees_with_the_status_bar(make_window, 
         assert table.item(r, 1).toolTip() == label
     assert [table.horizontalHeaderItem(c).text() for c in range(5)] == [
         "#", "branch", "limits", "manip.", "largest move"]
-    assert words.MANIPULABILITY_TIP == table.horizontalHeaderItem(3).toolTip()
+    assert "manipulability" in table.horizontalHeaderItem(3).toolTip()
     st = win.state
     # a failing branch names its worst joint in the list and every violation in the details line
     bad = next(r for r, b in enumerate(st.branches) if not b.within_limits)
@@ -187,18 +188,18 @@ def test_branch_list_fits_its_panel_and_agrees_with_the_status_bar(make_window, 
     table.selectRow(bad)
     details = win.target.details.text()
     assert details.startswith(f"Branch {bad + 1} · BEYOND LIMITS: ")
-    for v in words.all_violations(st.chain, st.branches[bad]):
+    for v in words.violations_words(st.chain, st.branches[bad].violations):
         assert v in details
     assert win.target.apply_button.toolTip().startswith(f"move the arm to branch {bad + 1} — BEYOND joint limits: ")
     # apply a good branch: the status bar then shows the manipulability the list showed for it
     good = next(r for r, b in enumerate(st.branches) if b.within_limits)
     table.selectRow(good)
-    listed = table.item(good, 3).text().split()[0]
+    listed = " ".join(table.item(good, 3).text().split()[:2])  # value and unit, as the status bar shows them
     win.target.apply_selected()
     qtbot.waitUntil(lambda: np.allclose(st.q, st.branches[good].q), timeout=3000)
-    assert re.search(r"manipulability (\S+)$", win.status.singular.text()).group(1) == listed
-    # the raw figure keeps its unit in the tooltip (six revolute joints: length cubed)
-    assert re.search(r"Raw manipulability in the arm's units: \S+ mm³\.", win.status.singular.toolTip())
+    assert re.search(r"manipulability (.+)$", win.status.singular.text()).group(1) == listed
+    # the tooltip says what the figure is and its unit (six revolute joints: length cubed)
+    assert "in mm³" in win.status.singular.toolTip()
     # after the move, the largest-move column is measured from the new pose
     assert table.item(good, 4).text() == "0 deg"
 
@@ -252,15 +253,11 @@ def test_a_short_arm_given_an_orientation_is_told_to_try_position_only(make_wind
     shutil.copy(DEMO / "boom3.toml", path)
     win = make_window(path)
     win.set_target_values([0.5, 0.2, 0.4, 0, 0, 0])
-    st, table = win.state, win.target.table
+    st = win.state
     assert not st.ik.reachable
-    assert win.target.summary.text().startswith("Out of reach.")
-    assert "An arm with 3 joints cannot take every orientation: try 'position only'." in win.target.summary.text()
-    missing = [r for r, b in enumerate(st.branches) if not b.reaches]
-    assert missing
-    for r in missing:
-        label = table.item(r, 1).text()
-        # the miss is said in words beside the label (and the cell is red), not hidden in the limits column
-        assert label.startswith(st.branches[r].label + " — misses by ")
-        assert table.item(r, 1).foreground().color().name().upper() == palette.AT.upper()
-        assert "misses" not in table.item(r, 2).text()
+    assert win.target.summary.text().startswith("Out of reach")
+    assert "An arm with 3 joints cannot take every orientation: try a position-only target" in \
+        win.target.summary.text()
+    # configurations that do not reach are no branches: the one set of figures is the closest approach
+    assert all(b.reaches for b in st.branches)
+    assert st.ik.closest is not None and "closest approach within limits" in win.target.summary.text()

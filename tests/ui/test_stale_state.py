@@ -4,7 +4,6 @@ arm, no silent rounding by the editor, no "out of reach" for a solver fault, no 
 from __future__ import annotations
 
 import shutil
-import types
 
 import numpy as np
 import pytest
@@ -99,14 +98,14 @@ def test_editing_one_cell_keeps_every_other_value_exact(make_window, tmp_path):
 
 def test_a_solver_fault_is_not_called_out_of_reach():
     chain = armfile.load(ROOT / "demo_arms" / "heron6.toml").to_chain()
-    fault = types.SimpleNamespace(
-        solver="none", message="The solver failed on this target (LinAlgError: SVD did not converge).",
-        branches=(), reachable=False, closest=None, nearest_point=None, position_only=False, redundant=False,
-    )
+    from poser.core.ik import IKResult
+
+    fault = IKResult("fault", "none", (), False, None, None, None, False, False, (1e-3, 1e-6),
+                     fault="LinAlgError: SVD did not converge")
     level, text = words.ik_summary(chain, fault)
     assert level == "at"
     assert "Out of reach" not in text
-    assert text.startswith("Not solved: The solver failed on this target (LinAlgError")
+    assert text.startswith("Not solved: LinAlgError: SVD did not converge")
     assert "may still be reachable" in text
 
 

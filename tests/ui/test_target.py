@@ -88,8 +88,9 @@ def test_an_unreachable_target_is_explained(make_window, qtbot):
     qtbot.waitUntil(lambda: win.state.ik is not None, timeout=5000)
     assert win.state.target.R is None
     text = win.target.summary.text()
-    assert text.startswith("Out of reach.")
-    assert "Closest approach:" in text and " mm from the target" in text
+    assert text.startswith("Out of reach")
+    assert "closest approach within limits misses the position by" in text and " mm" in text
+    assert "nearest reachable point is" in text
 
 
 def test_take_current_pose_fills_the_fields_in_every_notation(make_window, qtbot):

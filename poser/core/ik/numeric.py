@@ -1,0 +1,161 @@
+"""Numerical inverse kinematics: damped least squares from many starts at once, on a fixed budget.
+
+Each step solves ``(J Jᵀ + λ I) y = e`` and moves ``Δq = Jᵀ y`` — the damped
+least-squares step (Wampler 1986; Nakamura & Hanafusa 1986) — with the
+damping of each start lowered after a step that reduced the error and raised
+after one that did not (the Levenberg–Marquardt rule).  Every start is
+iterated at once (arrays shaped (K, ...)); starts that converge or stall drop
+out.  The budget is a number of iterations, never a time, so the same input
+gives the same result on every machine and every run.
+
+Errors are made dimensionless before they are combined: the position error is
+divided by the arm's size, the orientation error is the rotation vector in
+radians (:func:`poser.core.transforms.rotation_vector`).  Pose and Jacobian come
+from :func:`poser.core.fk.frames` and :func:`poser.core.jacobian.jacobian_from_frames`.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from poser.core.fk import frames
+from poser.core.jacobian import jacobian_from_frames
+from poser.core.transforms import TWO_PI, rotation_vector, wrap
+
+__all__ = ["seeds", "dls", "MAX_ITER"]
+
+MAX_ITER = 60
+"""Iterations each start may take."""
+
+
+def seeds(chain, count: int, full_turns: bool = True, rng_seed: int = 20240613):
+    """``count`` starting configurations (count, n), the same on every call (stratified, seeded).
+
+    Revolute joints are spread over a whole turn when ``full_turns`` (so that branches beyond the
+    limits are found too and said to be blocked), else over their range (at most a turn); prismatic
+    joints over their stroke.
+    """
+
+    def make(c):
+        rng = np.random.default_rng(rng_seed)
+        lo = np.array(c.lower, float)
+        hi = np.array(c.upper, float)
+        rev = np.asarray(c.revolute)
+        mid = 0.5 * (lo + hi)
+        if full_turns:
+            lo = np.where(rev, mid - np.pi, lo)
+            hi = np.where(rev, mid + np.pi, hi)
+        else:
+            wide = rev & (hi - lo > TWO_PI)
+            lo = np.where(wide, mid - np.pi, lo)
+            hi = np.where(wide, mid + np.pi, hi)
+        u = (np.arange(count)[:, None] + rng.random((count, c.n))) / count
+        for j in range(c.n):
+            u[:, j] = rng.permutation(u[:, j])
+        s = lo + u * (hi - lo)
+        s.setflags(write=False)
+        return s
+
+    return chain.derived(f"ik_seeds_{count}_{int(full_turns)}_{rng_seed}", make)
+
+
+def _residual(chain, P, R, F, weight):
+    T = F[:, -1]
+    ep = (P - T[:, :3, 3]) / chain.scale * weight[0]
+    if R is None:
+        return ep
+    er = rotation_vector(R @ np.swapaxes(T[:, :3, :3], 1, 2)) * weight[1]
+    return np.concatenate([ep, er], axis=1)
+
+
+def dls(chain, P, R, q0, *, tol, max_iter=MAX_ITER, clip=False, weight=(1.0, 1.0)):
+    """Damped least squares from every start at once.
+
+    Parameters
+    ----------
+    chain : Chain
+    P : ndarray (3,)
+        Target tool position, arm length unit.
+    R : ndarray (3, 3) or None
+        Target tool rotation; None for position only.
+    q0 : ndarray (K, n)
+        Starts, internal units.
+    tol : (float, float)
+        Position (length unit) and orientation (rad) tolerances: a start that meets both stops.
+    max_iter : int
+        Iterations each start may take.
+    clip : bool
+        Keep every iterate within the limits (the closest approach within limits).
+    weight : (float, float)
+        Weights of the position and the orientation residual (e.g. a heavy position weight keeps
+        the position while the orientation is improved).
+
+    Returns
+    -------
+    q : ndarray (K, n)
+    pos_err : ndarray (K,)
+        Length unit.
+    ori_err : ndarray (K,)
+        Radians (0 for position only).
+    converged : ndarray (K,) of bool
+        Both errors within tolerance.
+    """
+    lo, hi = chain.lower, chain.upper
+    q = np.array(q0, dtype=float)
+    K, n = q.shape
+    rev = chain.revolute
+    if clip:
+        q = np.clip(q, lo, hi)
+    F = frames(chain, q)
+    J = jacobian_from_frames(chain, F)
+    e = _residual(chain, P, R, F, weight)
+    m = e.shape[1]
+    cost = np.sum(e * e, axis=1)
+    lam = np.full(K, 1e-3)
+    tp = tol[0] / chain.scale * weight[0] * 1e-3
+    to = tol[1] * weight[1] * 1e-3
+
+    def done(ev):
+        ok = np.linalg.norm(ev[:, :3], axis=1) <= tp
+        if m > 3:
+            ok &= np.linalg.norm(ev[:, 3:], axis=1) <= to
+        return ok
+
+    active = ~done(e)
+    stall = np.zeros(K, int)
+    row_scale = np.ones(m)
+    row_scale[:3] = weight[0] / chain.scale
+    if m > 3:
+        row_scale[3:] = weight[1]
+    col_scale = np.where(rev, 1.0, chain.scale)  # prismatic steps in units of the arm's size
+    eye = np.eye(m)
+    step_cap = np.where(rev, 0.6, 0.3)
+    for _ in range(int(max_iter)):
+        idx = np.flatnonzero(active)
+        if idx.size == 0:
+            break
+        Ja = J[idx, :m, :] * row_scale[None, :, None] * col_scale[None, None, :]
+        A = Ja @ np.swapaxes(Ja, 1, 2) + lam[idx, None, None] * eye
+        y = np.linalg.solve(A, e[idx][..., None])[..., 0]
+        dz = np.einsum("kmn,km->kn", Ja, y)
+        over = np.max(np.abs(dz) / step_cap, axis=1)
+        dz /= np.maximum(over, 1.0)[:, None]
+        qn = q[idx] + dz * col_scale
+        qn = np.where(rev, wrap(qn), qn) if not clip else np.clip(qn, lo, hi)
+        Fn = frames(chain, qn)
+        en = _residual(chain, P, R, Fn, weight)
+        cn = np.sum(en * en, axis=1)
+        better = cn < cost[idx]
+        rel = np.where(better, (cost[idx] - cn) / np.maximum(cost[idx], 1e-300), 0.0)
+        bi = idx[better]
+        if bi.size:
+            q[bi], e[bi], cost[bi] = qn[better], en[better], cn[better]
+            J[bi] = jacobian_from_frames(chain, Fn[better])
+        lam[bi] = np.maximum(lam[bi] / 4.0, 1e-12)
+        lam[idx[~better]] *= 6.0
+        stall[idx] = np.where(better & (rel > 1e-6), 0, stall[idx] + 1)
+        active[idx] = ~done(e[idx]) & (lam[idx] < 1e8) & (stall[idx] < 12)
+    pos_err = np.linalg.norm(e[:, :3], axis=1) * chain.scale / weight[0]
+    ori_err = np.linalg.norm(e[:, 3:], axis=1) / weight[1] if m > 3 else np.zeros(K)
+    converged = (pos_err <= tol[0]) & (ori_err <= tol[1])
+    return q, pos_err, ori_err, converged

@@ -1,0 +1,376 @@
+"""``solve``: check → candidates → families → turns → evaluate → rank → closest approach.
+
+Candidates come from the closed form where the chain has one
+(:mod:`poser.core.ik.closed`), else from damped least squares
+(:mod:`poser.core.ik.numeric`) started over every revolute joint's whole
+turn, so that branches beyond the limits are found too and said to be
+blocked.  Candidates the target leaves something free for become families
+(:mod:`poser.core.ik.families`); isolated ones that reach expand into their
+turn variants (:mod:`poser.core.ik.turns`).  Everything is then judged by
+the same evaluation (:mod:`poser.core.ik.evaluate`) and ordered: reaching
+within limits first, then reaching beyond a limit, then the configurations
+that do not reach; within each group nearest the reference pose first.
+
+The same arm, target and options give the same result on every run: every
+budget is a count.  A ``time_guard`` (seconds) may be given by callers that
+must stay responsive; when it cuts the numerical search, the result says so
+(``complete`` False).
+"""
+
+from __future__ import annotations
+
+import math
+import time
+
+import numpy as np
+
+from poser.core.errors import PoserValueError
+from poser.core.ik import closed, families, numeric, turns
+from poser.core.ik.closest import closest_approach
+from poser.core.ik.evaluate import Evaluation, evaluate
+from poser.core.ik.result import FAULT, SOLVED, Branch, IKResult
+from poser.core.jacobian import jacobian
+from poser.core.transforms import TWO_PI, wrap
+
+__all__ = ["solve", "OPTIONS"]
+
+OPTIONS = frozenset(
+    {"method", "position_tolerance", "orientation_tolerance", "seeds", "max_variants", "max_branches",
+     "closest", "time_guard", "representatives"}
+)
+MAX_VARIANTS = 64
+"""Turn variants listed per configuration (the rest are counted)."""
+MAX_BRANCHES = 512
+"""Branches listed in all (the rest are counted)."""
+
+
+def _check_inputs(chain, xyz, R, near):
+    # plain floats: numpy calls on three or nine numbers cost more than the arithmetic
+    xyz = np.asarray(xyz, dtype=float)
+    if xyz.shape != (3,):
+        raise PoserValueError(f"xyz must have shape (3,), got shape {xyz.shape}")
+    if not all(map(math.isfinite, xyz.tolist())):
+        raise PoserValueError(f"xyz must be finite, got {xyz.tolist()}")
+    if R is not None:
+        R = np.asarray(R, dtype=float)
+        if R.shape != (3, 3):
+            raise PoserValueError(f"R must have shape (3, 3) or be None, got shape {R.shape}")
+        (a, b, c), (d, e, f), (g, h, i) = R.tolist()
+        if not all(map(math.isfinite, (a, b, c, d, e, f, g, h, i))):
+            raise PoserValueError("R must be finite")
+        err = max(  # the largest entry of |RᵀR - I|
+            abs(a * a + d * d + g * g - 1.0),
+            abs(b * b + e * e + h * h - 1.0),
+            abs(c * c + f * f + i * i - 1.0),
+            abs(a * b + d * e + g * h),
+            abs(a * c + d * f + g * i),
+            abs(b * c + e * f + h * i),
+        )
+        if err > 1e-6 or a * (e * i - f * h) - b * (d * i - f * g) + c * (d * h - e * g) < 0:
+            raise PoserValueError("R must be a rotation matrix (orthonormal, determinant +1)")
+        if err > 1e-13:  # tidy a slightly drifted rotation
+            U, _, Vt = np.linalg.svd(R)
+            R = U @ Vt
+    if near is not None:
+        near = np.asarray(near, dtype=float)
+        if near.shape != (chain.n,):
+            raise PoserValueError(f"near must have shape ({chain.n},), got shape {near.shape}")
+        if not all(map(math.isfinite, near.tolist())):
+            raise PoserValueError(f"near must be finite, got {near.tolist()}")
+    return xyz, R, near
+
+
+def _ranks(chain):
+    """Generic rank of the position rows and of the whole (dimensionless) Jacobian (kept with the chain)."""
+
+    def make(c):
+        rng = np.random.default_rng(3)
+        span = np.where(c.revolute, np.minimum(c.upper - c.lower, TWO_PI), c.upper - c.lower)
+        J = jacobian(c, c.lower + rng.random((4, c.n)) * span)
+        J[:, :3] /= c.scale
+        J[:, :, ~c.revolute] *= c.scale
+        rp = int(max(np.linalg.matrix_rank(Jk[:3], tol=1e-9) for Jk in J))
+        rf = int(max(np.linalg.matrix_rank(Jk, tol=1e-9) for Jk in J))
+        return rp, rf
+
+    return chain.derived("ik_ranks", make)
+
+
+def _distances(chain, Q, near):
+    """Distances of rows Q (E, n) from ``near``: (dimensionless for ranking, [(rad part, length part)]).
+
+    Revolute differences in rad, prismatic ones divided by the arm's size for the ranking figure;
+    the parts keep them apart (degrees and millimetres are never added).  (None, None) without ``near``.
+    """
+    if near is None:
+        return None, None
+    d = np.asarray(Q, float) - near
+    rev = chain.revolute
+    a = np.sqrt(np.sum(d[:, rev] ** 2, axis=1))
+    b = np.sqrt(np.sum(d[:, ~rev] ** 2, axis=1))
+    return np.hypot(a, b / chain.scale).tolist(), list(zip(a.tolist(), b.tolist()))
+
+
+class _Candidates:
+    """Base configurations found, each with its family (or None)."""
+
+    def __init__(self, n):
+        self.rows = []
+        self.families = []
+        self.n = n
+
+    def add(self, q, family=None):
+        self.rows.append(np.asarray(q, float))
+        self.families.append(family)
+
+    @property
+    def Q(self):
+        return np.array(self.rows, float).reshape(-1, self.n)
+
+
+def _dedupe(chain, Q, tol):
+    """Indices of rows of Q that differ from every earlier kept row (wrapped angles, lengths ÷ arm size)."""
+    K = len(Q)
+    if K < 2:
+        return list(range(K))
+    d = Q[:, None, :] - Q[None, :, :]
+    d = np.where(chain.revolute, wrap(d), d / chain.scale)
+    close = (np.max(np.abs(d), axis=-1) < tol).tolist()
+    keep = []
+    for k in range(K):
+        row = close[k]
+        if not any(row[j] for j in keep):
+            keep.append(k)
+    return keep
+
+
+def _closed_candidates(chain, plan, xyz, R, ref, C, position_only):
+    st = plan.structure
+    if not position_only or st.kind == "position":
+        cands = plan.one(xyz, R, ref)
+        for slot, (q, exact, free) in enumerate(cands):
+            fj = tuple(k for k, f in enumerate(free) if f)
+            if fj and exact:
+                fam, qr = families.joint_families(chain, plan, xyz, R, ref, slot, fj)
+                C.add(qr, fam)
+            else:
+                C.add(q)
+        return
+    Fref = chain.frames(ref)
+    free = families.position_free_joints(chain)
+    if st.kind in ("planar3", "table4"):
+        phi_ref = float(plan.tool_turn(Fref[-1, :3, :3][None])[0])
+        if st.turn in free:
+            for q, _, _ in plan.one(xyz, None, ref, phi=phi_ref):
+                C.add(*families.free_family(chain, q, (st.turn,))[::-1])
+        else:
+            for fam, q in families.turn_families(chain, plan, xyz, ref, phi_ref):
+                C.add(q, fam)
+        return
+    R_ref = Fref[-1, :3, :3]
+    if set(st.wrist) <= set(free):
+        for q, _, _ in plan.one(xyz, R_ref, ref):
+            C.add(*families.free_family(chain, q, st.wrist)[::-1])
+        return
+    for fam, q in families.orientation_families(chain, plan, xyz, ref, R_ref):
+        C.add(q, fam)
+
+
+def _numeric_candidates(chain, xyz, R, ref, C, tol, redundant, options, deadline):
+    K = int(options.get("seeds", 96 if redundant else 64))
+    starts = [ref[None], np.asarray(chain.home, float)[None]]
+    ap = closed.approx_plan(chain)
+    if ap is not None and R is not None:
+        starts.append(np.array([q for q, _, _ in ap.one(xyz, R, ref)], float))
+    starts.append(numeric.seeds(chain, K))
+    S = np.vstack(starts)
+    complete = True
+    if deadline is None:
+        q, _, _, conv = numeric.dls(chain, xyz, R, S, tol=tol)
+    else:  # a time guard: the starts in blocks, stopping when time runs out (said in the result)
+        out_q, out_c = [], []
+        for s in range(0, len(S), 16):
+            if s and time.perf_counter() > deadline:
+                complete = False
+                break
+            qb, _, _, cb = numeric.dls(chain, xyz, R, S[s : s + 16], tol=tol)
+            out_q.append(qb)
+            out_c.append(cb)
+        q, conv = np.vstack(out_q), np.concatenate(out_c)
+    Q = q[conv]
+    keep = _dedupe(chain, Q, 1e-2 if redundant else 1e-6)
+    Q = Q[keep]
+    if redundant and len(Q):
+        count = int(options.get("representatives", 8))
+        placed = turns.place(chain, Q)
+        dist = np.linalg.norm(np.where(chain.revolute, wrap(Q - ref), (Q - ref) / chain.scale), axis=1)
+        score = dist + 100.0 * ~turns.fits(chain, placed)
+        Q = Q[_spread(chain, Q, score, count)]
+    fam_kind = None
+    if redundant:
+        from poser.core.ik.result import Family
+
+        fam_kind = Family("self-motion", ("self-motion",), (), tuple(range(chain.n)), None,
+                          1.0 if len(Q) and bool(turns.fits(chain, turns.place(chain, Q)).any()) else 0.0,
+                          len(S), complete)
+    for q in Q:
+        C.add(q, fam_kind)
+    return complete
+
+
+def _spread(chain, Q, score, count):
+    """``count`` rows of Q far apart in joint space, starting from the best score (lowest)."""
+    order = list(np.argsort(score, kind="stable"))
+    chosen = [order[0]]
+    scale = np.where(chain.revolute, 1.0, 1.0 / chain.scale)
+    while len(chosen) < min(count, len(Q)):
+        D = np.full(len(Q), np.inf)
+        for c in chosen:
+            d = Q - Q[c]
+            D = np.minimum(D, np.linalg.norm(np.where(chain.revolute, wrap(d), d) * scale, axis=1))
+        D[chosen] = -1.0
+        nxt = int(np.argmax(D - 1e-3 * np.asarray(score)))
+        if D[nxt] <= 1e-3:
+            break
+        chosen.append(nxt)
+    return chosen
+
+
+def solve(chain, xyz, R=None, near=None, **options) -> IKResult:
+    """Every inverse-kinematics branch for a target.
+
+    Parameters
+    ----------
+    chain : poser.core.chain.Chain
+    xyz : array_like, shape (3,)
+        World position of the tool point, arm length unit.
+    R : array_like, shape (3, 3), optional
+        World orientation of the tool coordinate system; None for position only.
+    near : array_like, shape (n,), optional
+        Present joint values, internal units; branches are ranked by distance from them (else from home).
+    **options
+        ``method`` ("auto", "closed" or "numerical"; "closed" falls back to numerical without a closed
+        form), ``position_tolerance`` (length unit, default 1e-6 of the arm's size),
+        ``orientation_tolerance`` (rad, default 1e-6), ``seeds`` (numerical starts), ``max_variants``
+        (turn variants listed per configuration, default 64), ``max_branches`` (branches listed, default
+        512), ``representatives`` (of a numerically found family, default 8), ``closest`` (compute the
+        closest approach when not reachable, default True), ``time_guard`` (seconds the numerical search
+        may take; the result then says whether it was cut — default None: no clock).
+
+    Returns
+    -------
+    IKResult
+        With ``status`` ``"fault"`` (and no verdict) if the solver broke on this input.
+    """
+    xyz, R, near = _check_inputs(chain, xyz, R, near)
+    unknown = set(options) - OPTIONS
+    if unknown:
+        raise PoserValueError(f"options must be among {sorted(OPTIONS)}, got {sorted(unknown)}")
+    method = options.get("method", "auto")
+    if method not in ("auto", "closed", "numerical"):
+        raise PoserValueError(f"method must be 'auto', 'closed' or 'numerical', got {method!r}")
+    tol = (
+        float(options.get("position_tolerance", 1e-6 * chain.scale)),
+        float(options.get("orientation_tolerance", 1e-6)),
+    )
+    try:
+        return _solve(chain, xyz, R, near, tol, method, options)
+    except Exception as exc:  # a defect: report it as a fault, never as a verdict on reach
+        return IKResult(FAULT, "none", (), False, None, None, None, R is None, False, tol,
+                        fault=f"{type(exc).__name__}: {exc}", xyz=xyz, R=R)
+
+
+def _solve(chain, xyz, R, near, tol, method, options):
+    n = chain.n
+    ref = near if near is not None else np.asarray(chain.home, float)
+    position_only = R is None
+    rp, rf = _ranks(chain)
+    redundant = n > (rp if position_only else rf)
+    guard = options.get("time_guard")
+    deadline = None if guard is None else time.perf_counter() + float(guard)
+    plan = None if method == "numerical" else closed.plan(chain)
+    C = _Candidates(n)
+    complete = True
+    if plan is not None:
+        solver = f"closed-form: {plan.structure.name}"
+        _closed_candidates(chain, plan, xyz, R, ref, C, position_only)
+    else:
+        solver = "numerical"
+        complete = _numeric_candidates(chain, xyz, R, ref, C, tol, redundant, options, deadline)
+    Q = C.Q
+    fams = C.families
+    keep = _dedupe(chain, Q, 1e-7)
+    Q_all = Q
+    Q = Q[keep]
+    fams = [fams[k] for k in keep]
+    max_variants = int(options.get("max_variants", MAX_VARIANTS))
+    branches, total, unlisted = [], 0, 0
+    if len(Q):
+        Qp = turns.place(chain, Q)
+        ev = evaluate(chain, Qp, xyz, R)
+        pe, oe = ev.position_error, ev.orientation_error
+        hit = [a <= tol[0] and b <= tol[1] for a, b in zip(pe, oe)]
+        # configurations that do not reach are no branches: they only start the closest approach
+        sel = [k for k in range(len(Qp)) if hit[k]]
+        Qp, fams = Qp[sel], [fams[k] for k in sel]
+        ev = Evaluation(*([getattr(ev, f)[k] for k in sel] for f in ("position_error", "orientation_error",
+                                                                       "manipulability", "words")), ev.tool[sel])
+        pe, oe, hit = ev.position_error, ev.orientation_error, [True] * len(sel)
+        limits = [max_variants if f is None else 1 for f in fams]
+        rows, tt, src, counts, _ = turns.expand(chain, Qp, ref, limits)
+        listed = [0] * len(Qp)
+        for k in src:
+            listed[k] += 1
+        for k in range(len(Qp)):
+            if hit[k] and fams[k] is None:
+                total += max(counts[k], listed[k])
+                unlisted += max(counts[k] - listed[k], 0)
+            else:
+                total += listed[k]
+        rows.setflags(write=False)
+        # every variant's wide joints fit by construction: a variant breaks what its base row breaks elsewhere
+        base_viols = turns.violations_many(chain, Qp, narrow_only=True)
+        viols = [base_viols[k] for k in src]
+        dist, parts = _distances(chain, rows, near)
+        dref = dist if near is not None else _distances(chain, rows, ref)[0]
+        names = chain.names
+        keys = []
+        for e, (k, t, v) in enumerate(zip(src, tt, viols)):
+            words = ev.words[k] or "single configuration"
+            label = words
+            nturns = 0
+            if any(t):
+                label = " · ".join([words] + [f"{names[i]} {x:+d} turn" + ("s" if abs(x) > 1 else "")
+                                              for i, x in enumerate(t) if x])
+                nturns = sum(map(abs, t))
+            b = Branch(rows[e], label, words, t, not v, v, pe[k], oe[k], ev.manipulability[k],
+                       None if dist is None else dist[e], hit[k], None if parts is None else parts[e], fams[k],
+                       max(counts[k], 1) if hit[k] and fams[k] is None else 1)
+            branches.append(b)
+            keys.append((not (hit[k] and not v), not hit[k], round(dref[e], 12), nturns, e))
+        keys.sort()
+        branches = [branches[x[-1]] for x in keys]
+    cap = int(options.get("max_branches", MAX_BRANCHES))
+    if len(branches) > cap:
+        unlisted += len(branches) - cap
+        branches = branches[:cap]
+    reachable = bool(branches) and branches[0].reaches and branches[0].within_limits
+    closest = nearest_point = nearest_rotation = None
+    if not reachable and options.get("closest", True):
+        qc, pe, oe = closest_approach(chain, xyz, R, ref, Q_all, tol)
+        qc = np.array(qc, float)
+        qc.setflags(write=False)
+        ev = evaluate(chain, qc[None], xyz, R)
+        d, parts = _distances(chain, qc[None], near)
+        words = ev.words[0] or "single configuration"
+        closest = Branch(qc, words, words, (0,) * n, True, (), ev.position_error[0], ev.orientation_error[0],
+                         ev.manipulability[0], None if d is None else d[0],
+                         ev.position_error[0] <= tol[0] and ev.orientation_error[0] <= tol[1],
+                         None if parts is None else parts[0])
+        if ev.position_error[0] > tol[0]:
+            nearest_point = ev.tool[0, :3, 3].copy()
+            nearest_rotation = ev.tool[0, :3, :3].copy()
+            nearest_point.setflags(write=False)
+            nearest_rotation.setflags(write=False)
+    return IKResult(SOLVED, solver, tuple(branches), reachable, closest, nearest_point, nearest_rotation,
+                    position_only, bool(redundant), tol, complete, total, unlisted, None, xyz, R)
