@@ -88,7 +88,7 @@ def read_regular(path, limit: int = MAX_BYTES):
                 raise ArmFileError([Problem(f"is {kind}, not an arm file; arm files are regular files", file)])
             chunks, got = [], 0
             while got <= limit:
-                chunk = os.read(fd, limit + 1 - got)
+                chunk = os.read(fd, min(limit + 1 - got, 1 << 20))
                 if not chunk:
                     break
                 chunks.append(chunk)
