@@ -330,16 +330,17 @@ def test_every_edit_at_once_keeps_every_comment_with_its_joint():
     j[1].max = 141  # change a value
     j[0].name = "J1 base"  # rename
     j.insert(3, JointSpec("extra", "prismatic", min=0, max=10))  # insert in the middle
-    del j[5]  # delete one ("J5 wrist bend")
+    del j[6]  # delete one ("J6 flange", which has no comments)
     j.insert(0, j.pop(2))  # move "J3 elbow" to the front
     out = dumps(spec)
     again = loads(out)
     assert [x.name for x in again.joints] == ["J3 elbow", "J1 base", "J2 shoulder", "extra", "J4 forearm roll",
-                                             "J6 flange"]
+                                             "J5 wrist bend"]
     assert again == spec
     assert "# upper arm points straight up at J2 = 0" in block_of(out, "J2 shoulder")
     assert 'max = 141' in block_of(out, "J2 shoulder")
-    assert "J5 wrist bend" not in out
+    assert "# ready pose: wrist bent" in block_of(out, "J5 wrist bend")
+    assert "J6 flange" not in out
     # every comment of the file is still there, once
     comments = [row for row in text.splitlines() if "#" in row]
     assert all(out.count(c[c.index("#"):]) == text.count(c[c.index("#"):]) for c in comments)

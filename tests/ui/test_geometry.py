@@ -93,8 +93,8 @@ def test_limit_words_say_what_the_colour_says():
 
 
 def test_singularity_is_flagged_at_a_straight_wrist(heron):
-    # Heron's wrist axes J4 and J6 line up at J5 = 0 (home): a wrist singularity (common practice)
-    _, kappa, _ = geometry.singularity_metrics(heron, heron.home)
+    # Heron's wrist axes J4 and J6 line up at J5 = 0: a wrist singularity (common practice)
+    _, kappa, _ = geometry.singularity_metrics(heron, np.zeros(6))
     assert words.singularity_words(kappa)[0] == "at"
     _, kappa, _ = geometry.singularity_metrics(heron, heron.q_from_user(np.array([10, 20, 30, 40, 50, 60.0])))
     assert words.singularity_words(kappa)[0] == "ok"
