@@ -125,9 +125,11 @@ def cmd_check(args) -> int:
         for p in exc.problems:
             print(p, file=sys.stderr)
         return 2
+    from poser.text import printable
+
     kinds = "".join("R" if j.type == "revolute" else "P" for j in spec.joints)
     print(
-        f"{args.arm}: valid — {spec.name!r}, {len(spec.joints)} joints ({kinds}), "
+        f"{printable(args.arm)}: valid — '{printable(spec.name)}', {len(spec.joints)} joints ({kinds}), "
         f"{spec.convention} DH, {spec.units.length} and {spec.units.angle}"
     )
     return 0
