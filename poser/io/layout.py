@@ -39,6 +39,8 @@ __all__ = ["Entry", "Section", "Layout", "scan"]
 _WS = re.compile(r"[ \t]*")
 _SKIP = re.compile(r"(?:[ \t\r\n]|#[^\r\n]*)*")  # whitespace, newlines and comments (inside arrays)
 _EOL = re.compile(r"[ \t]*(#[^\r\n]*)?(\r?\n|$)")
+_BLANKS = re.compile(r"(?:[ \t]*\r?\n)+")
+_COMMENTS = re.compile(r"(?:[ \t]*#[^\r\n]*(?:\r?\n|\Z))+")
 _BARE = re.compile(r"[A-Za-z0-9_-]+")
 _DOT = re.compile(r"[ \t]*\.[ \t]*")
 _BASIC = re.compile(r'"(?:[^"\\\r\n]|\\.)*"')
@@ -97,7 +99,7 @@ class Layout:
     entries: dict  # path → Entry
     sections: list  # [root, section, ...]
     trailer_start: int
-    items: list  # (kind, start, end, line) per top-level line group: "blank", "comment", "header", "kv"
+    items: list  # (kind, start, end, line): a header or key/value line (group), a run of blank or of comment lines
     headers: dict  # table path → index into sections (tables and array-of-tables elements opened by a header)
     inline: dict  # table path → (value_start, value_end, last child's value end or None) of an inline table
     dotted: dict  # table path → list of item indices of the dotted key/value lines that define it
@@ -223,12 +225,14 @@ def scan(text: str) -> Layout:
         start = pos
         pos = _WS.match(text, pos).end()
         c = text[pos] if pos < n else ""
-        if c in ("\n", "\r", ""):  # blank line
+        if c in ("\n", "\r", ""):  # blank lines: one item for the whole run
             pos = _EOL.match(text, pos).end()
+            m = _BLANKS.match(text, pos)
+            pos = m.end() if m else pos
             items.append(("blank", start, pos, sc.line(start)))
             continue
-        if c == "#":
-            pos = _EOL.match(text, pos).end()
+        if c == "#":  # comment lines: one item for the whole run
+            pos = _COMMENTS.match(text, start).end()
             items.append(("comment", start, pos, sc.line(start)))
             continue
         if c == "[":

@@ -4,7 +4,7 @@ The text is parsed by the standard library's :mod:`tomllib` (strict TOML 1.0,
 as other programs reading arm files expect: no newlines or trailing commas in
 inline tables, no ``\\e`` escapes, no times without seconds).  Before it, a
 quick count refuses texts that would take long to parse (more than
-:data:`MAX_ITEMS` ``=``, ``,``, ``[`` and ``{`` signs, or a dotted key of more
+:data:`MAX_ITEMS` ``=``, ``,``, ``[``, ``{`` and ``#`` signs, or a dotted key of more
 than :data:`MAX_KEY_PARTS` parts); after it, nesting deeper than
 :data:`MAX_DEPTH` is refused.  The layout (where each key stands, for line
 numbers and comment-keeping saves) is read only when it is needed.
@@ -37,7 +37,8 @@ from poser.io.stamp import MAX_BYTES, DiskStamp, read_regular
 __all__ = ["load", "loads", "loads_bytes", "MAX_ITEMS", "MAX_DEPTH", "MAX_KEY_PARTS"]
 
 MAX_ITEMS = 20_000
-"""Most ``=``, ``,``, ``[`` and ``{`` signs an arm file may hold (keys, values and tables; an arm needs ~100)."""
+"""Most ``=``, ``,``, ``[``, ``{`` and ``#`` signs an arm file may hold (keys, values, tables, comments; an arm
+needs about a hundred)."""
 MAX_DEPTH = 32
 """Deepest nesting of arrays and tables."""
 MAX_KEY_PARTS = 32
@@ -49,11 +50,11 @@ _TOML_AT = re.compile(r"\s*\((?:at line (\d+), column (\d+)|at end of document)\
 
 
 def _prescan(text: str, file: str) -> None:
-    signs = text.count("=") + text.count(",") + text.count("[") + text.count("{")
+    signs = sum(text.count(c) for c in "=,[{#")
     if signs > MAX_ITEMS:
         raise ArmFileError([Problem(
-            f"the file holds {signs} '=', ',', '[' and '{{' signs (keys, values and tables); an arm file may hold "
-            f"at most {MAX_ITEMS} — it would take too long to read", file)])
+            f"the file holds {signs} '=', ',', '[', '{{' and '#' signs (keys, values, tables and comments); an arm "
+            f"file may hold at most {MAX_ITEMS} — it would take too long to read", file)])
     m = _LONG_KEY.search(text)
     if m:
         line = text.count("\n", 0, m.start()) + 1
