@@ -21,7 +21,7 @@ import threading
 import time
 from pathlib import Path
 
-from poser.io.errors import ArmFileError
+from poser.io.errors import ArmFileError, FolderNotWritableError
 from poser.io.spec import ArmSpec
 from poser.io.writing import dumps, write_text_atomic
 
@@ -57,8 +57,6 @@ def write_atomic(path: Path, text: str) -> None:
     try:
         path.parent.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        from poser.io.errors import FolderNotWritableError
-
         raise FolderNotWritableError(path, path.parent, exc.strerror or str(exc)) from None
     write_text_atomic(path, text)
 
@@ -209,11 +207,12 @@ class RecoveryWriter:
             ok, message = True, None
             try:
                 if path is None:
-                    raise ArmFileError([])  # reported below
-                text = item if isinstance(item, str) else dumps(item, path)
-                write_atomic(path, text)
+                    ok, message = False, "no recovery file is set (RecoveryWriter.set_path)"
+                else:
+                    text = item if isinstance(item, str) else dumps(item, path)
+                    write_atomic(path, text)
             except ArmFileError as exc:
-                ok, message = False, (str(exc) or "no recovery file is set")
+                ok, message = False, str(exc)
             except OSError as exc:
                 ok, message = False, f"{path}: {exc.strerror or exc}"
             except Exception as exc:  # never let the thread die silently

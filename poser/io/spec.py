@@ -3,7 +3,7 @@
 An :class:`ArmSpec` holds the values exactly as written in the file, in the
 arm's own units.  It is plain data: copies (:meth:`ArmSpec.copy`,
 :func:`copy.deepcopy`) are independent, and nothing that reads a spec
-(:func:`validate`, :func:`poser.io.document.dumps`) changes it.  Two
+(:func:`validate`, :func:`poser.io.writing.dumps`) changes it.  Two
 read-only references ride along and are shared by copies, since nothing ever
 changes them:
 

@@ -26,6 +26,9 @@ __all__ = ["DiskStamp", "read_regular", "file_kind", "changed_on_disk", "MAX_BYT
 MAX_BYTES = 1 << 20
 """Largest arm file read (1 MiB)."""
 
+# O_NONBLOCK: should the name have been swapped for a pipe since the stat, opening does not wait
+_READ_FLAGS = os.O_RDONLY | getattr(os, "O_NONBLOCK", 0) | getattr(os, "O_NOCTTY", 0) | getattr(os, "O_CLOEXEC", 0)
+
 
 def file_kind(mode: int) -> str | None:
     """None for a regular file, else what it is in words (``"a named pipe (FIFO)"``, ``"a folder"``, …)."""
@@ -78,9 +81,7 @@ def read_regular(path, limit: int = MAX_BYTES):
             raise ArmFileError([Problem(f"is {kind}, not an arm file; arm files are regular files", file)])
         if st.st_size > limit:
             raise _too_big(st.st_size, file)
-        # O_NONBLOCK: should the name have been swapped for a pipe since the stat, opening does not wait
-        flags = os.O_RDONLY | getattr(os, "O_NONBLOCK", 0) | getattr(os, "O_NOCTTY", 0) | getattr(os, "O_CLOEXEC", 0)
-        fd = os.open(file, flags)
+        fd = os.open(file, _READ_FLAGS)
         try:
             fst = os.fstat(fd)
             kind = file_kind(fst.st_mode)
@@ -137,12 +138,27 @@ class DiskStamp:
 
     @classmethod
     def read(cls, path) -> DiskStamp | None:
-        """The stamp of the file at ``path`` now (None when it is missing, unreadable or not a regular file)."""
+        """The stamp of the file at ``path`` now (None when it is missing, unreadable or not a regular file).
+
+        The bytes are hashed as they are read, so a file of any size costs no more memory than a block.
+        """
+        file = os.fspath(path)
         try:
-            raw, st = read_regular(path, limit=1 << 62)
-        except ArmFileError:
+            if file_kind(os.stat(file).st_mode):
+                return None
+            fd = os.open(file, _READ_FLAGS)
+            try:
+                st = os.fstat(fd)
+                if file_kind(st.st_mode):
+                    return None
+                h = hashlib.sha256()
+                while chunk := os.read(fd, 1 << 20):
+                    h.update(chunk)
+            finally:
+                os.close(fd)
+        except (OSError, ValueError):
             return None
-        return cls.of_bytes(path, st, raw)
+        return cls(file, st.st_mtime_ns, st.st_size, h.hexdigest(), st.st_ino, st.st_dev)
 
     def matches(self, path=None) -> bool:
         """Whether the file at ``path`` (default: this stamp's path) still holds the bytes this stamp saw.

@@ -86,13 +86,13 @@ def test_changed_on_disk_is_cheap_and_ignores_a_touch(arm, monkeypatch):
     stamp = load(arm).stamp
     assert not changed_on_disk(stamp)
     reads = []
-    real = armfile.read_regular
+    real = DiskStamp.read.__func__
 
-    def counting(*args, **kwargs):
-        reads.append(args)
-        return real(*args, **kwargs)
+    def counting(cls, path):
+        reads.append(path)
+        return real(cls, path)
 
-    monkeypatch.setattr("poser.io.stamp.read_regular", counting)
+    monkeypatch.setattr(DiskStamp, "read", classmethod(counting))
     assert not changed_on_disk(stamp) and reads == []  # unchanged: one stat, no read
     os.utime(arm, ns=(stamp.mtime_ns + 5_000_000_000, stamp.mtime_ns + 5_000_000_000))  # touched, same bytes
     assert not changed_on_disk(stamp) and len(reads) == 1  # the bytes were compared
