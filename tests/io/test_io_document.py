@@ -116,7 +116,44 @@ joint = [ { name = "a", type = "revolute", min = -90, max = 90 },
           { name = "b", type = "prismatic", min = 0, max = 200, home = 20 } ]   # two joints
 """
 
-ODD_FILES = {"crlf": CRLF, "comments": COMMENTS_EVERYWHERE, "dotted": INLINE_AND_DOTTED, "inline": INLINE_JOINTS}
+QUOTED_AND_MULTILINE = '''\
+\t# tab-indented head comment
+"format" = 1
+name = "\\u00c9tude arm"   # an escaped name
+units . length = 'mm'
+
+[notes]
+text = """
+[[joint]]
+name = "not a joint"
+"""
+lit = \'\'\'
+[fake] 'quotes' ''\'\'\'
+empty = {}
+list = [
+  [1, 2],   # inner
+  { a = "b" },
+]
+
+[ tool ]
+\trpy = [ 0 , 0 , 90 ]
+
+[[ joint ]]   # first
+\t"name" = "α one"
+\ttype = 'revolute'
+\tmin = -1.5707963267948966
+\tmax = 1.5707963267948966
+
+[[joint]]
+name = "β two"
+type = "prismatic"
+d = 1E2
+min = 0
+max = 0x10
+# last comment, no newline'''  # tabs, quoted keys and headers, strings that look like tables, no final newline
+
+ODD_FILES = {"crlf": CRLF, "comments": COMMENTS_EVERYWHERE, "dotted": INLINE_AND_DOTTED, "inline": INLINE_JOINTS,
+             "quoted": QUOTED_AND_MULTILINE}
 
 
 def changed_lines(old: str, new: str) -> list[tuple[str, str]]:
@@ -168,6 +205,9 @@ def test_odd_files_round_trip_byte_for_byte(name, tmp_path):
 
 
 def test_odd_files_are_read_as_written():
+    quoted = loads(QUOTED_AND_MULTILINE, "q.toml")
+    assert quoted.name == "\u00c9tude arm" and [j.name for j in quoted.joints] == ["α one", "β two"]
+    assert quoted.notes["text"] == '[[joint]]\nname = "not a joint"\n' and quoted.joints[1].max == 16
     spec = loads(COMMENTS_EVERYWHERE, "c.toml")
     assert spec.joints[0].name == "  padded name  "  # names are kept exactly, spaces included
     assert spec.joints[0].a == 1000 and spec.joints[0].theta == 0
