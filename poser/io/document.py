@@ -154,15 +154,21 @@ def render_fresh(spec: ArmSpec, nl: str = "\n") -> str:
 class _Render:
     def __init__(self, src: ArmSource, spec: ArmSpec, stem_default: str):
         self.src = src
-        self.L = src.layout
         self.text = src.text
         self.data = src._data
         self.spec = spec
-        self.nl = self.L.newline
         self.stem_default = stem_default
         self.edits: list = []  # (owner section, start, end, seq, text)
         self.new_tables: dict = {}  # top-level table path → [(key, value)] for tables the text lacks
-        self._starts = [s.start for s in self.L.sections]
+        self._starts = None
+
+    @property
+    def L(self) -> _layout.Layout:  # only read when something is to be edited: an unchanged arm needs no layout
+        return self.src.layout
+
+    @property
+    def nl(self) -> str:
+        return self.L.newline
 
     # - small tools -
     def old(self, path):
@@ -175,6 +181,8 @@ class _Render:
         return v
 
     def owner(self, anchor: int) -> int:
+        if self._starts is None:
+            self._starts = [s.start for s in self.L.sections]
         return bisect.bisect_right(self._starts, anchor) - 1
 
     def edit(self, start, end, text, anchor=None):
@@ -319,7 +327,7 @@ class _Render:
         return True
 
     def build(self) -> str:
-        L, text, nl, spec = self.L, self.text, self.nl, self.spec
+        text, spec = self.text, self.spec
         self.top()
         # joints: which loaded joint each one is (by origin, never by position)
         src_joints = self.data.get("joint", [])
@@ -335,8 +343,6 @@ class _Render:
             else:
                 pieces.append(("new", j))
         reordered = pieces != [("old", k) for k in range(len(src_joints))]
-        slots = [L.headers[("joint", k)] for k in range(len(src_joints)) if ("joint", k) in L.headers]
-        inline_joints = bool(src_joints) and not slots
         # notes
         old_notes = self.data.get("notes", {})
         rewrite_notes = False
@@ -345,6 +351,11 @@ class _Render:
             if not self.notes_in_place(("notes",), old_notes, spec.notes):
                 del self.edits[mark:]
                 rewrite_notes = True
+        if not self.edits and not reordered and not self.new_tables and not rewrite_notes:
+            return text  # nothing changed: the very same text
+        L, nl = self.L, self.nl
+        slots = [L.headers[("joint", k)] for k in range(len(src_joints)) if ("joint", k) in L.headers]
+        inline_joints = bool(src_joints) and not slots
         notes_sections = [i for i, s in enumerate(L.sections) if s.path and s.path[0] == "notes"]
         if rewrite_notes:  # pairs defining notes outside its sections (dotted keys, an inline table) go
             for path, e in L.entries.items():
@@ -355,8 +366,6 @@ class _Render:
                     self.edit(start, end, "")
         if inline_joints and reordered:
             self._rebuild_inline_joints(pieces)
-        if not self.edits and not reordered and not self.new_tables and not rewrite_notes:
-            return text  # nothing changed: the very same text
         by_owner: dict = {}
         for owner, start, end, seq, new in self.edits:
             by_owner.setdefault(owner, []).append((start, end, seq, new))

@@ -134,6 +134,17 @@ def loads(text: str, file: str = "<arm>", *, bom: bool = False) -> ArmSpec:
     return _build(data, file, source)
 
 
+def build_spec(source: ArmSource, file: str | None = None) -> ArmSpec:
+    """The arm ``source`` holds, read again from what was parsed (no second parse), as if its file were ``file``.
+
+    Raises
+    ------
+    ArmFileError
+        As :func:`loads` would for that text.
+    """
+    return _build(source._data, source.file if file is None else file, source)
+
+
 def _build(data: dict, file: str, source: ArmSource) -> ArmSpec:
     problems: list = []  # (message, where, joint); lines are looked up only when there are problems
 

@@ -41,7 +41,7 @@ from poser.io.errors import (
     ReadOnlyError,
     SaveError,
 )
-from poser.io.reading import loads
+from poser.io.reading import build_spec, loads
 from poser.io.spec import ArmSpec, validate
 from poser.io.stamp import DiskStamp, file_kind, read_regular
 from poser.io.tomltext import TomlValueError, same
@@ -74,8 +74,12 @@ def _same_arm(a: ArmSpec, b: ArmSpec) -> bool:
 
 
 def _reads_back(text: str, spec: ArmSpec, file: str) -> bool:
+    src = spec.source
     try:
-        again = loads(text, file)
+        if isinstance(src, ArmSource) and text == src.text:  # the loaded text: what it holds is known
+            again = build_spec(src, file)
+        else:
+            again = loads(text, file)
     except ArmFileError:
         return False
     return _same_arm(again, spec)
