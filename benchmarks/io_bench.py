@@ -83,8 +83,8 @@ def run(quick=False):
         }
         for label, text in cases.items():
             figures[f"load: {label} (ms)"] = 1e3 * _load_time(folder, "case.toml", text, repeat)
-        goals["load: 1 MiB, 175k notes keys (refused) (ms)"] = "well under 1000 ms (tomlkit took 6600 ms)"
-        goals["load: 1 MiB of blank lines (ms)"] = "well under 1000 ms"
+        goals["load: 1 MiB, 175k notes keys (refused) (ms)"] = "well under 1000 ms (tomlkit took 7000 ms)"
+        goals["load: 1 MiB of blank lines (ms)"] = "well under 1000 ms (tomlkit took 103000 ms)"
 
         big = armfile.loads(cases["5000 notes keys with comments"], "big.toml")
         big.joints[2].max = 150
