@@ -25,7 +25,7 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parent))
 sys.path.insert(0, str(HERE))
 
-SECTIONS = ("fk_bench", "ik_bench", "gui")
+SECTIONS = ("fk_bench", "ik_bench", "io_bench", "gui")
 
 
 def main(argv=None) -> int:

@@ -11,7 +11,7 @@ radians, lengths in the arm's unit.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -19,7 +19,7 @@ from poser.core.chain import Chain, Joint
 from poser.core.errors import PoserValueError
 from poser.core.transforms import cos_sin, rot_x, rot_z
 
-__all__ = ["DHRow", "dh_matrix", "chain_from_dh", "STANDARD", "MODIFIED"]
+__all__ = ["DHRow", "dh_matrix", "chain_from_dh", "convert_dh", "STANDARD", "MODIFIED"]
 
 STANDARD = "standard"
 MODIFIED = "modified"
@@ -141,3 +141,76 @@ def chain_from_dh(rows: Sequence[DHRow], convention: str = STANDARD, base=None, 
             pre, post = _modified_parts(row)
         joints.append(Joint(row.name, row.kind, pre, post, row.lower, row.upper, row.home))
     return Chain(joints, base=base, tool=tool, name=name, units=units)
+
+
+def _transform(name, T):
+    if T is None:
+        return np.eye(4)
+    T = np.array(T, dtype=float)
+    if T.shape != (4, 4):
+        raise PoserValueError(f"{name} must have shape (4, 4), got shape {T.shape}")
+    return T
+
+
+def convert_dh(rows: Sequence[DHRow], source: str, target: str, base=None, tool=None):
+    """The same arm's DH table in the other convention: same tool pose, same joint axes.
+
+    Standard row i is ``Rz(θ_i) Tz(d_i) Tx(a_i) Rx(α_i)``; modified row i is
+    ``Rx(α_{i-1}) Tx(a_{i-1}) Rz(θ_i) Tz(d_i)``.  Regrouping the product
+    ``base · A_1 ⋯ A_n · tool`` gives
+
+    * standard → modified: modified row i takes ``a`` and ``alpha`` from
+      standard row i−1 (zeros for row 1) and keeps ``θ``, ``d``; standard row
+      n's ``Tx(a_n) Rx(α_n)`` is folded into the tool:
+      ``tool' = Tx(a_n) Rx(α_n) · tool``;
+    * modified → standard: modified row 1's ``Rx(α_0) Tx(a_0)`` is folded into
+      the base (``base' = base · Rx(α_0) Tx(a_0)``); standard row i takes
+      ``a`` and ``alpha`` from modified row i+1 (zeros for the last row).
+
+    For every joint value the tool pose is the same, and so are the joint
+    axes in the world.  The intermediate joint frames are *not*: standard
+    frame i sits at the distal end of link i, modified frame i at joint i
+    (proximal), so frame-by-frame output differs between the two tables.
+
+    Parameters
+    ----------
+    rows : sequence of DHRow
+        Base first; angles in radians.  Names, kinds, limits and homes are kept.
+    source, target : {"standard", "modified"}
+        The convention ``rows`` are written in, and the one wanted.
+    base, tool : array_like, shape (4, 4), optional
+        World → base and flange → tool transforms (identity when omitted).
+
+    Returns
+    -------
+    rows : list of DHRow
+    base, tool : ndarray, shape (4, 4)
+        New arrays (the inputs are not changed).
+
+    Raises
+    ------
+    PoserValueError
+        For an unknown convention or a transform of the wrong shape.
+    """
+    for name, conv in (("source", source), ("target", target)):
+        if conv not in CONVENTIONS:
+            raise PoserValueError(f"{name} convention must be 'standard' or 'modified', got {conv!r}")
+    rows = list(rows)
+    base, tool = _transform("base", base), _transform("tool", tool)
+    if source == target or not rows:
+        return rows, base, tool
+    if source == STANDARD:
+        out, prev = [], (0.0, 0.0)
+        for r in rows:
+            out.append(replace(r, a=prev[0], alpha=prev[1]))
+            prev = (r.a, r.alpha)
+        if prev != (0.0, 0.0):
+            tool = dh_matrix(prev[0], prev[1], 0.0, 0.0, STANDARD) @ tool  # Tx(a_n) Rx(α_n)
+        return out, base, tool
+    out = []
+    for i, r in enumerate(rows):
+        nxt = rows[i + 1] if i + 1 < len(rows) else None
+        out.append(replace(r, a=nxt.a if nxt else 0.0, alpha=nxt.alpha if nxt else 0.0))
+    if (rows[0].a, rows[0].alpha) != (0.0, 0.0):
+        base = base @ dh_matrix(rows[0].a, rows[0].alpha, 0.0, 0.0, MODIFIED)  # Rx(α_0) Tx(a_0)
+    return out, base, tool

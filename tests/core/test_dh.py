@@ -138,3 +138,61 @@ def test_user_units_conversion():
         Units("km", "deg")
     with pytest.raises(PoserValueError, match=r"angle unit must be one of \['deg', 'rad'\], got 'grad'"):
         Units("mm", "grad")
+
+
+# -- converting a table between the conventions ------------------------------------------------------
+
+
+@pytest.mark.parametrize("seed", range(8))
+def test_convert_dh_keeps_the_tool_pose_and_the_joint_axes(seed, random_rows, random_transform):
+    # Craig, Introduction to Robotics, ch. 3 (from memory): the proximal convention attaches frame i at
+    # joint i instead of at the far end of link i; one mechanism, two tables, the same tool pose.
+    from poser.core.dh import convert_dh
+    from poser.core.fk import fk, frames
+    from poser.core.jacobian import jacobian
+
+    rng = np.random.default_rng(300 + seed)
+    n = int(rng.integers(1, 8))
+    rows = random_rows(rng, n, prismatic=0.3)
+    base, tool = random_transform(rng), random_transform(rng)
+    q = rng.uniform(-np.pi, np.pi, (30, n))
+    for source, target in (("standard", "modified"), ("modified", "standard")):
+        one = chain_from_dh(rows, source, base=base, tool=tool)
+        new_rows, new_base, new_tool = convert_dh(rows, source, target, base=base, tool=tool)
+        other = chain_from_dh(new_rows, target, base=new_base, tool=new_tool)
+        np.testing.assert_allclose(fk(other, q), fk(one, q), atol=1e-12)
+        np.testing.assert_allclose(jacobian(other, q), jacobian(one, q), atol=1e-12)
+        assert [(r.name, r.kind, r.d, r.theta, r.lower, r.upper) for r in new_rows] == [
+            (r.name, r.kind, r.d, r.theta, r.lower, r.upper) for r in rows]
+        # and back: the same table, up to the folding into the base or tool
+        back, back_base, back_tool = convert_dh(new_rows, target, source, base=new_base, tool=new_tool)
+        again = chain_from_dh(back, source, base=back_base, tool=back_tool)
+        np.testing.assert_allclose(fk(again, q), fk(one, q), atol=1e-12)
+        folded = n - 1 if source == "standard" else 0  # the row whose (a, alpha) went into the tool / base
+        for k, (r, b) in enumerate(zip(rows, back)):
+            if k == folded:
+                assert (b.a, b.alpha) == (0.0, 0.0)
+            else:
+                assert (b.a, b.alpha, b.d, b.theta) == (r.a, r.alpha, r.d, r.theta)
+    # the intermediate frames are not the same (distal versus proximal), unless every a and alpha is 0
+    std = chain_from_dh(rows, "standard", base=base, tool=tool)
+    mod_rows, mb, mt = convert_dh(rows, "standard", "modified", base=base, tool=tool)
+    mod = chain_from_dh(mod_rows, "modified", base=mb, tool=mt)
+    if any(r.a or r.alpha for r in rows[:-1]):
+        assert not np.allclose(frames(std, q[0])[1:-1], frames(mod, q[0])[1:-1])
+
+
+def test_convert_dh_by_hand_and_bad_input():
+    from poser.core.dh import convert_dh
+
+    rows = [DHRow("j1", "revolute", a=1.0, alpha=np.pi / 2, d=0.5), DHRow("j2", "revolute", a=2.0)]
+    mod, base, tool = convert_dh(rows, "standard", "modified")
+    assert [(r.a, r.alpha, r.d) for r in mod] == [(0.0, 0.0, 0.5), (1.0, np.pi / 2, 0.0)]
+    np.testing.assert_array_equal(base, np.eye(4))
+    np.testing.assert_array_equal(tool, dh_matrix(2.0, 0.0, 0.0, 0.0))  # Tx(2)
+    same, b2, t2 = convert_dh(rows, "modified", "modified")
+    assert same == rows and np.array_equal(b2, np.eye(4)) and np.array_equal(t2, np.eye(4))
+    with pytest.raises(PoserValueError, match="target convention must be 'standard' or 'modified', got 'dh'"):
+        convert_dh(rows, "standard", "dh")
+    with pytest.raises(PoserValueError, match=r"tool must have shape \(4, 4\), got shape \(3, 3\)"):
+        convert_dh(rows, "standard", "modified", tool=np.eye(3))
