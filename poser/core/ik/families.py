@@ -36,8 +36,8 @@ from poser.core.ik.result import Family
 from poser.core.jacobian import jacobian
 from poser.core.transforms import TWO_PI, wrap
 
-__all__ = ["joint_families", "turn_families", "orientation_families", "free_family", "position_free_joints",
-           "STEP", "ORIENTATIONS"]
+__all__ = ["joint_families", "turn_families", "reduced_families", "orientation_families", "free_family",
+           "position_free_joints", "STEP", "ORIENTATIONS"]
 
 STEP = math.pi / 180.0
 """Sampling step of a free joint or turn (1°)."""
@@ -79,55 +79,101 @@ def _intervals(s, good):
     return out
 
 
-def _members(chain, plan, xyz, R, ref, j, values, slot, phi=False):
-    """The slot's member (S, n) placed, and whether it is good (exact and within limits), for free values."""
-    S = len(values)
-    refs = np.repeat(np.asarray(ref, float)[None], S, 0)
-    if phi:
-        Q, ex, _ = plan.candidates(np.repeat(xyz[None], S, 0), None, refs, phi=values)
-    else:
-        refs[:, j] = values
-        Q, ex, _ = plan.candidates(np.repeat(xyz[None], S, 0),
-                                     None if R is None else np.repeat(R[None], S, 0), refs)
-    M = turns.place(chain, Q[:, slot])
-    return M, ex[:, slot] & turns.fits(chain, M)
+class _Members:
+    """Every slot's member for values of one free parameter: ``(values) -> (M (S, B, n) placed, good (S, B))``.
+
+    ``kind`` says what the parameter is: a joint's value (``"joint"``: the target leaves joint ``j``
+    free), the tool's turn (``"turn"``), or a redundant arm's fixed joint (``"fixed"``).  A member is good
+    when it reaches exactly and every joint is within its limits (some turn of a wide joint fitting).
+    ``ref_value`` is the parameter's present value (the representative is the good member nearest it).
+    """
+
+    def __init__(self, chain, plan, xyz, R, ref, kind, j=None, ref_value=None):
+        self.chain, self.plan, self.xyz, self.R, self.ref, self.kind, self.j = chain, plan, xyz, R, ref, kind, j
+        self.ref_value = float(ref[j]) if ref_value is None else float(ref_value)
+
+    def __call__(self, values):
+        values = np.asarray(values, float)
+        S = len(values)
+        P = np.repeat(self.xyz[None], S, 0)
+        Rs = None if self.R is None else np.repeat(self.R[None], S, 0)
+        refs = np.repeat(np.asarray(self.ref, float)[None], S, 0)
+        if self.kind == "turn":
+            Q, ex, _ = self.plan.candidates(P, None, refs, phi=values)
+        elif self.kind == "fixed":
+            Q, ex, _ = self.plan.many(P, Rs, refs, values)
+        else:
+            refs[:, self.j] = values
+            Q, ex, _ = self.plan.candidates(P, Rs, refs)
+        M = turns.place(self.chain, Q)
+        return M, ex & turns.fits(self.chain, M)
+
+    def one(self, value, slot):
+        """The slot's member at ``value``, solved in plain floats, placed (n,)."""
+        r = [float(v) for v in self.ref]
+        if self.kind == "turn":
+            cand = self.plan.one(self.xyz, None, r, phi=value)
+        elif self.kind == "fixed":
+            cand = self.plan.one(self.xyz, self.R, r, value)
+        else:
+            r[self.j] = value
+            cand = self.plan.one(self.xyz, self.R, r)
+        return turns.place(self.chain, np.array(cand[slot][0], float))
 
 
-def _refine(chain, plan, xyz, R, ref, j, slot, a, b, good_a, phi=False):
-    """Bisect between sample values a (good: good_a) and b (not) for every pair at once → boundary values."""
-    a = np.array(a, float)
-    b = np.array(b, float)
-    for _ in range(BISECT):
-        m = 0.5 * (a + b)
-        _, g = _members(chain, plan, xyz, R, ref, j, m, slot, phi)
-        same = g == good_a
-        a = np.where(same, m, a)
-        b = np.where(same, b, m)
-    return np.where(good_a, a, b)  # the last value on the good side
+def _sampled(members, lo, hi, slots):
+    """Sample the free parameter over [lo, hi] for every slot in ``slots``.
 
-
-def _sampled(chain, plan, xyz, R, ref, j, slot, lo, hi, phi=False):
-    """Sample one free parameter over [lo, hi]: (values, members, good, ranges) with refined boundaries."""
+    Returns ``(values, M (S, B, n), good (S, B), {slot: ranges})``: each slot's ranges of values whose
+    members are good, their ends refined by bisection (every slot's boundaries at once).
+    """
     S = max(2, int(math.ceil((hi - lo) / STEP)) + 1)
     s = np.linspace(lo, hi, S)
-    M, good = _members(chain, plan, xyz, R, ref, j, s, slot, phi)
-    runs = _intervals(s, good)
-    ranges = []
-    if runs:
-        left = [(s[i0 - 1], s[i0]) for i0, _ in runs if i0 > 0]
-        right = [(s[i1], s[i1 + 1]) for _, i1 in runs if i1 < S - 1]
-        bl = _refine(chain, plan, xyz, R, ref, j, slot, [x[1] for x in left], [x[0] for x in left],
-                     np.ones(len(left), bool), phi) if left else []
-        br = _refine(chain, plan, xyz, R, ref, j, slot, [x[0] for x in right], [x[1] for x in right],
-                     np.ones(len(right), bool), phi) if right else []
-        li = ri = 0
-        for i0, i1 in runs:
-            a = s[0] if i0 == 0 else float(bl[li])
-            li += i0 > 0
-            b = s[-1] if i1 == S - 1 else float(br[ri])
-            ri += i1 < S - 1
-            ranges.append((float(a), float(b)))
+    M, good = members(s)
+    runs = {b: _intervals(s, good[:, b]) for b in slots}
+    pairs = []  # (slot, index of a good sample, index of its bad neighbour): a boundary to refine
+    for b, rs in runs.items():
+        for i0, i1 in rs:
+            if i0 > 0:
+                pairs.append((b, i0, i0 - 1))
+            if i1 < S - 1:
+                pairs.append((b, i1, i1 + 1))
+    ends = {}
+    if pairs:
+        a = np.array([s[p[1]] for p in pairs])
+        c = np.array([s[p[2]] for p in pairs])
+        rows = np.arange(len(pairs))
+        slot_idx = np.array([p[0] for p in pairs])
+        for _ in range(BISECT):
+            m = 0.5 * (a + c)
+            _, g = members(m)
+            ok = g[rows, slot_idx]
+            a = np.where(ok, m, a)
+            c = np.where(ok, c, m)
+        ends = {(p[0], p[1]): float(x) for p, x in zip(pairs, a)}  # the last value on the good side
+    ranges = {}
+    for b, rs in runs.items():
+        ranges[b] = [(float(s[0]) if i0 == 0 else ends[(b, i0)], float(s[-1]) if i1 == S - 1 else ends[(b, i1)])
+                     for i0, i1 in rs]
     return s, M, good, ranges
+
+
+def _over_whole_range(ranges, lo, hi):
+    """Good ranges found over one turn [-π, π] laid over a wide joint's whole range [lo, hi], merged."""
+    full = []
+    for a, b in ranges:
+        for k in range(math.floor((lo - b) / TWO_PI), math.ceil((hi - a) / TWO_PI) + 1):
+            x, y = max(a + k * TWO_PI, lo), min(b + k * TWO_PI, hi)
+            if x <= y:
+                full.append((x, y))
+    full.sort()
+    merged = []
+    for a, b in full:
+        if merged and a <= merged[-1][1] + 1e-12:
+            merged[-1] = (merged[-1][0], max(merged[-1][1], b))
+        else:
+            merged.append((a, b))
+    return merged
 
 
 def _measure(ranges):
@@ -146,7 +192,7 @@ def _nearest_in(ranges, x):
 
 def _follows(M, good, skip):
     rows = M[good] if good.any() else M
-    spread = np.ptp(np.where(np.isfinite(rows), rows, 0.0), axis=0) if len(rows) else np.zeros(M.shape[1])
+    spread = np.ptp(rows, axis=0) if len(rows) else np.zeros(M.shape[1])
     return tuple(int(i) for i in np.flatnonzero(spread > 1e-9) if i not in skip)
 
 
@@ -158,60 +204,68 @@ def _least_bad(chain, M):
     return int(np.argmin(ex.sum(axis=1)))
 
 
-def _solve_at(chain, plan, xyz, R, ref, j, value, slot, phi=False):
-    r = [float(v) for v in ref]
-    if phi:
-        cand = plan.one(xyz, None, r, phi=value)
-    else:
-        r[j] = value
-        cand = plan.one(xyz, R, r)
-    return np.array(cand[slot][0], float)
-
-
-def joint_families(chain, plan, xyz, R, ref, slot, free):
-    """The family of candidate ``slot`` of closed-form ``plan`` whose joints ``free`` (indices) the target leaves free.
-
-    Returns ``(Family, q)`` — ``q`` the representative (n,), placed in range (turns of wide joints
-    still to be chosen by the caller).
-    """
+def _one_parameter(chain, members, slots, exact_any):
+    """Families over one parameter for ``slots``: joint ``members.j``'s value over its range, or the tool's
+    turn over a turn (``members.kind == "turn"``).  Returns a list of ``(slot, Family, q)``; a slot none of
+    whose members reaches is left out when ``exact_any`` (it is not a branch)."""
     names = chain.names
+    j = members.j
+    if members.kind == "turn":
+        lo, hi, wide = -math.pi, math.pi, False
+    else:
+        lo, hi = float(chain.lower[j]), float(chain.upper[j])
+        wide = bool(turns._wide(chain)[j])
+    s, M, good, ranges = _sampled(members, -math.pi if wide else lo, math.pi if wide else hi, slots)
+    out = []
+    for b in slots:
+        r = _over_whole_range(ranges[b], lo, hi) if wide else ranges[b]
+        frac = float(min(max(_measure(r) / (hi - lo), 0.0), 1.0))
+        Mb, gb = M[:, b], good[:, b]
+        if r:
+            x = _nearest_in(r, members.ref_value)
+            q = members.one(float(wrap(x)) if wide else x, b)
+            if j is not None and members.kind != "turn":
+                q[j] = x
+        else:
+            if exact_any is not None and not exact_any(b):
+                continue
+            q = Mb[_least_bad(chain, Mb)].copy()
+        if members.kind == "turn":
+            fam = Family("turn", ("tool turn",), (), _follows(Mb, gb, ()), (tuple(r),), frac, len(s))
+        else:
+            follows = _follows(Mb, gb, (j,))
+            fam = Family("joint", tuple(names[i] for i in (j, *follows)), (j,), follows, (tuple(r),), frac, len(s))
+        out.append((b, fam, q))
+    return out
+
+
+def joint_families(chain, plan, xyz, R, ref, slots, free):
+    """The families of candidate ``slots`` of closed-form ``plan`` whose joints ``free`` (indices) the target
+    leaves free.
+
+    Returns a list of ``(slot, Family, q)`` — ``q`` the representative (n,), placed in range (turns of
+    wide joints other than the free one still to be chosen by the caller).
+    """
     if len(free) >= 2:
-        return _grid_family(chain, plan, xyz, R, ref, slot, free[:2])
-    j = free[0]
-    lo, hi = float(chain.lower[j]), float(chain.upper[j])
-    wide = bool(turns._wide(chain)[j])
-    if wide:  # the rest repeats every turn: sample one turn, then lay its good part over the whole range
-        s, M, good, ranges = _sampled(chain, plan, xyz, R, ref, j, slot, -math.pi, math.pi)
-        full = []
-        for a, b in ranges:
-            for k in range(math.floor((lo - b) / TWO_PI), math.ceil((hi - a) / TWO_PI) + 1):
-                x, y = max(a + k * TWO_PI, lo), min(b + k * TWO_PI, hi)
-                if x <= y:
-                    full.append((x, y))
-        full.sort()
-        merged = []
-        for a, b in full:
-            if merged and a <= merged[-1][1] + 1e-12:
-                merged[-1] = (merged[-1][0], max(merged[-1][1], b))
-            else:
-                merged.append((a, b))
-        ranges = merged
-        frac = _measure(ranges) / (hi - lo)
-    else:
-        s, M, good, ranges = _sampled(chain, plan, xyz, R, ref, j, slot, lo, hi)
-        frac = _measure(ranges) / (hi - lo)
-    fam_good = bool(ranges)
-    follows = _follows(M, good, (j,))
-    if fam_good:
-        x = _nearest_in(ranges, float(ref[j]))
-        q = _solve_at(chain, plan, xyz, R, ref, j, float(wrap(x)) if wide else x, slot)
-        q = turns.place(chain, q)
-        q[j] = x
-    else:
-        q = M[_least_bad(chain, M)].copy()
-    fam = Family("joint", tuple(names[i] for i in (j, *follows)), (j,), follows, tuple([tuple(ranges)]),
-                 float(min(max(frac, 0.0), 1.0)), len(s), True)
-    return fam, q
+        return [(b, *_grid_family(chain, plan, xyz, R, ref, b, free[:2])) for b in slots]
+    return _one_parameter(chain, _Members(chain, plan, xyz, R, ref, "joint", free[0]), list(slots), None)
+
+
+def reduced_families(chain, rplan, xyz, R, ref):
+    """A redundant arm made closed-form by fixing one joint (:class:`poser.core.ik.closed.ReducedPlan`): one
+    family per slot over the fixed joint's range; slots none of whose members reaches are left out.
+
+    Returns a list of ``(slot, Family, q)``.
+    """
+    members = _Members(chain, rplan, xyz, R, ref, "fixed", rplan.fixed)
+    B = rplan.structure.branches
+    # whether a slot reaches anywhere: exactly at some sample (a first look at a few values is enough for
+    # the ones that reach everywhere; the search itself covers the whole range)
+    probe = np.linspace(float(chain.lower[rplan.fixed]), float(chain.upper[rplan.fixed]), 73)
+    _, ex, _ = rplan.many(np.repeat(xyz[None], len(probe), 0), np.repeat(R[None], len(probe), 0),
+                          np.repeat(np.asarray(ref, float)[None], len(probe), 0), probe)
+    reach = ex.any(axis=0)
+    return _one_parameter(chain, members, list(range(B)), lambda b: bool(reach[b]))
 
 
 def _grid_family(chain, plan, xyz, R, ref, slot, free):
@@ -227,8 +281,7 @@ def _grid_family(chain, plan, xyz, R, ref, slot, free):
     S = A.size
     refs = np.repeat(np.asarray(ref, float)[None], S, 0)
     refs[:, j1], refs[:, j2] = A.ravel(), B.ravel()
-    Q, ex, _ = plan.candidates(np.repeat(xyz[None], S, 0), None if R is None else np.repeat(R[None], S, 0),
-                                 refs)
+    Q, ex, _ = plan.candidates(np.repeat(xyz[None], S, 0), None if R is None else np.repeat(R[None], S, 0), refs)
     M = turns.place(chain, Q[:, slot])
     good = ex[:, slot] & turns.fits(chain, M)
     G = good.reshape(GRID, GRID)
@@ -254,20 +307,10 @@ def _grid_family(chain, plan, xyz, R, ref, slot, free):
 def turn_families(chain, plan, xyz, ref, phi_ref):
     """Position-only on planar and table arms: one family per slot over the tool's turn.
 
-    Returns a list of ``(Family, q)`` for every slot.
+    Returns a list of ``(slot, Family, q)``.
     """
-    out = []
-    for slot in range(plan.structure.branches):
-        s, M, good, ranges = _sampled(chain, plan, xyz, None, ref, None, slot, -math.pi, math.pi, phi=True)
-        if ranges:
-            x = _nearest_in(ranges, float(phi_ref))
-            q = turns.place(chain, _solve_at(chain, plan, xyz, None, ref, None, x, slot, phi=True))
-        else:
-            q = M[_least_bad(chain, M)].copy()
-        follows = _follows(M, good, ())
-        fam = Family("turn", ("tool turn",), (), follows, tuple([tuple(ranges)]), _measure(ranges) / TWO_PI, len(s))
-        out.append((fam, q))
-    return out
+    members = _Members(chain, plan, xyz, None, ref, "turn", None, ref_value=phi_ref)
+    return _one_parameter(chain, members, list(range(plan.structure.branches)), None)
 
 
 def _super_fibonacci(count):
@@ -303,9 +346,8 @@ _ORI = None
 def orientation_families(chain, plan, xyz, ref, R_ref):
     """Position-only on a six-axis arm: per slot, the family over the tool's orientation.
 
-    Returns a list of ``(Family, q)`` for every slot; the representative keeps ``R_ref`` (the
-    current tool orientation) when that member is within limits, else it is the member within
-    limits nearest ``ref``.
+    Returns a list of ``(slot, Family, q)``; the representative keeps ``R_ref`` (the current tool
+    orientation) when that member is within limits, else it is the member within limits nearest ``ref``.
     """
     Rs = np.concatenate([np.asarray(R_ref, float)[None], _orientation_set()])
     S = len(Rs)
@@ -320,22 +362,24 @@ def orientation_families(chain, plan, xyz, ref, R_ref):
         elif good.any():
             d = np.linalg.norm(np.where(chain.revolute, wrap(M[good] - ref), (M[good] - ref) / chain.scale), axis=1)
             q = M[np.flatnonzero(good)[int(np.argmin(d))]].copy()
+        elif ex[:, slot].any():
+            Mx = M[ex[:, slot]]
+            q = Mx[_least_bad(chain, Mx)].copy()
         else:
-            q = M[_least_bad(chain, M)].copy()
-        follows = _follows(M, good, ())
-        fam = Family("orientation", ("tool orientation",), (), follows, None, float(good.mean()), S)
-        out.append((fam, q))
+            continue  # no member of this slot reaches: no branch
+        fam = Family("orientation", ("tool orientation",), (), _follows(M, good, ()), None, float(good.mean()), S)
+        out.append((slot, fam, q))
     return out
 
 
-def free_family(chain, q, free):
+def free_family(chain, q, free, ref):
     """Joints ``free`` that never move the tool point: free over their whole ranges (no search needed).
 
-    Returns ``(Family, q)`` with the free joints of ``q`` moved to their nearest value within limits.
+    Returns ``(Family, q)`` with the free joints at their present values ``ref`` (moved into their limits).
     """
     q = turns.place(chain, np.array(q, float))
     for j in free:
-        q[j] = min(max(q[j], chain.lower[j]), chain.upper[j])
+        q[j] = min(max(float(ref[j]), chain.lower[j]), chain.upper[j])
     rest_ok = bool(turns.fits(chain, q))
     ranges = tuple(((float(chain.lower[j]), float(chain.upper[j])),) if rest_ok else () for j in free)
     fam = Family("joint", tuple(chain.names[j] for j in free), tuple(free), (), ranges, 1.0 if rest_ok else 0.0, 0)

@@ -148,13 +148,19 @@ def _closed_candidates(chain, plan, xyz, R, ref, C, position_only):
     st = plan.structure
     if not position_only or st.kind == "position":
         cands = plan.one(xyz, R, ref)
-        for slot, (q, exact, free) in enumerate(cands):
-            fj = tuple(k for k, f in enumerate(free) if f)
+        free = families.position_free_joints(chain) if position_only else ()
+        groups: dict = {}
+        for slot, (q, exact, fl) in enumerate(cands):
+            fj = tuple(k for k, f in enumerate(fl) if f)
             if fj and exact:
-                fam, qr = families.joint_families(chain, plan, xyz, R, ref, slot, fj)
-                C.add(qr, fam)
+                groups.setdefault(fj, []).append(slot)
+            elif free and exact:
+                C.add(*families.free_family(chain, q, free, ref)[::-1])
             else:
                 C.add(q)
+        for fj, slots in groups.items():
+            for _, fam, qr in families.joint_families(chain, plan, xyz, R, ref, slots, fj):
+                C.add(qr, fam)
         return
     Fref = chain.frames(ref)
     free = families.position_free_joints(chain)
@@ -162,17 +168,22 @@ def _closed_candidates(chain, plan, xyz, R, ref, C, position_only):
         phi_ref = float(plan.tool_turn(Fref[-1, :3, :3][None])[0])
         if st.turn in free:
             for q, _, _ in plan.one(xyz, None, ref, phi=phi_ref):
-                C.add(*families.free_family(chain, q, (st.turn,))[::-1])
+                C.add(*families.free_family(chain, q, (st.turn,), ref)[::-1])
         else:
-            for fam, q in families.turn_families(chain, plan, xyz, ref, phi_ref):
+            for _, fam, q in families.turn_families(chain, plan, xyz, ref, phi_ref):
                 C.add(q, fam)
         return
     R_ref = Fref[-1, :3, :3]
     if set(st.wrist) <= set(free):
         for q, _, _ in plan.one(xyz, R_ref, ref):
-            C.add(*families.free_family(chain, q, st.wrist)[::-1])
+            C.add(*families.free_family(chain, q, st.wrist, ref)[::-1])
         return
-    for fam, q in families.orientation_families(chain, plan, xyz, ref, R_ref):
+    for _, fam, q in families.orientation_families(chain, plan, xyz, ref, R_ref):
+        C.add(q, fam)
+
+
+def _reduced_candidates(chain, rplan, xyz, R, ref, C):
+    for _, fam, q in families.reduced_families(chain, rplan, xyz, R, ref):
         C.add(q, fam)
 
 
@@ -291,9 +302,13 @@ def _solve(chain, xyz, R, near, tol, method, options):
     plan = None if method == "numerical" else closed.plan(chain)
     C = _Candidates(n)
     complete = True
+    rplan = None if plan is not None or method == "numerical" or position_only else closed.reduced_plan(chain)
     if plan is not None:
         solver = f"closed-form: {plan.structure.name}"
         _closed_candidates(chain, plan, xyz, R, ref, C, position_only)
+    elif rplan is not None:
+        solver = f"closed-form: {chain.names[rplan.fixed]} fixed, {rplan.structure.name}"
+        _reduced_candidates(chain, rplan, xyz, R, ref, C)
     else:
         solver = "numerical"
         complete = _numeric_candidates(chain, xyz, R, ref, C, tol, redundant, options, deadline)

@@ -212,13 +212,14 @@ def test_folded_planar_arm_at_the_inner_boundary():
 
 
 def test_redundant_arm_at_a_singular_pose():
-    """Lark 7 stretched straight up (every joint at zero) is singular; the numerical solver stays finite."""
+    """Lark 7 stretched straight up (every joint at zero) is singular; the solver stays finite and reaches."""
     ch = _demo("lark7")
     T = ch.fk(np.zeros(7))
     res = solve(ch, T[:3, 3], T[:3, :3], near=np.zeros(7))
     _all_finite(res, ch)
-    assert res.reachable and res.redundant and res.solver == "numerical"
+    assert res.reachable and res.redundant and res.solver.startswith("closed-form: upper-arm twist fixed")
     assert "families" in report.ik_message(ch, res)
+    assert all(b.family is not None and b.family.kind == "joint" for b in res.branches)
 
 
 # -- unreachable targets ---------------------------------------------------------------------------

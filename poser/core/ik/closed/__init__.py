@@ -32,7 +32,8 @@ from poser.core.ik.closed.stages import STAGE_BRANCHES, Model, Structure
 from poser.core.ik.closed.trace import TRACE, Graph, build
 from poser.core.lines import chain_lines, common_perpendicular, meeting_point, parallel
 
-__all__ = ["Structure", "Model", "Plan", "plan", "approx_plan", "recognise", "model_of", "make_model", "kernel_source"]
+__all__ = ["Structure", "Model", "Plan", "ReducedPlan", "plan", "approx_plan", "reduced_plan", "recognise", "model_of",
+           "make_model", "kernel_source"]
 
 TOL_DIR = 1e-9
 """Directions closer than this (sine of the angle) are parallel for recognition."""
@@ -359,6 +360,160 @@ def approx_plan(chain) -> Plan | None:
         return None if st is None else Plan(make_model(o, L.w, L.revolute, L.M, L.scale), st)
 
     return chain.derived("ik_approx_plan", make)
+
+
+class ReducedPlan:
+    """A redundant arm made closed-form by fixing one joint's value (an input ``qf`` of the kernel).
+
+    The lines after the fixed joint turn with it; the rest of the arm then has the structure
+    ``structure`` for every value of the fixed joint (checked at three generic values when recognised;
+    its solver holds at the special values too, where axes may line up by chance).  Its
+    solutions form one-parameter families over the fixed joint (self-motion), searched by
+    :mod:`poser.core.ik.families`.
+    """
+
+    def __init__(self, chain, fixed: int, structure: Structure, lines):
+        self.fixed = fixed
+        self.structure = structure
+        self.n = chain.n
+        self.keep = [k for k in range(chain.n) if k != fixed]
+        self._L = lines
+        self._downstream = {k: k > fixed for k in range(chain.n)}
+        self._kernels: dict = {}
+
+    def kernel(self, vector: bool):
+        k = self._kernels.get(vector)
+        if k is None:
+            k = self._kernels[vector] = self._build(vector)
+        return k
+
+    def _build(self, vector):
+        from dataclasses import replace
+
+        from poser.core.ik.closed import subproblems as sp
+
+        L, j, n = self._L, self.fixed, self.n
+        g = Graph()
+        names = ["P0", "P1", "P2"] + [f"R{a}{b}" for a in range(3) for b in range(3)]
+        names += [f"ref{k}" for k in range(n)] + ["qf"]
+        sym = {nm: g.input(nm) for nm in names}
+        qf = sym["qf"]
+        oj, wj = _t(L.o[j]), _t(L.w[j])
+
+        def moved_point(x):
+            return sp.rot_point(TRACE, oj, wj, qf, _t(x))
+
+        def moved_dir(x):
+            return sp.rot(TRACE, wj, qf, _t(x))
+
+        base = make_model(L.o, L.w, L.revolute, L.M, L.scale)
+        o, w = [], []
+        for k in self.keep:
+            if k < j:
+                o.append(_t(L.o[k]))
+                w.append(_t(L.w[k]))
+            else:
+                o.append(moved_point(L.o[k]))
+                w.append(moved_dir(L.w[k]))
+        cols = [moved_dir(L.M[:3, c]) for c in range(3)]
+        MR = tuple(tuple(cols[c][r] for c in range(3)) for r in range(3))
+        m = Model(o, w, [bool(L.revolute[k]) for k in self.keep], moved_point(L.M[:3, 3]), MR,
+                  moved_dir(base.across), base.eps_len)
+        st = self.structure
+        st = replace(st, point=moved_point(st.point) if self._point_moves else st.point,
+                     extra=tuple(moved_point(x) if isinstance(x, tuple) and self._extra_moves else x
+                                 for x in st.extra))
+        P = (sym["P0"], sym["P1"], sym["P2"])
+        R = tuple(tuple(sym[f"R{a}{b}"] for b in range(3)) for a in range(3))
+        ref = [sym[f"ref{k}"] for k in self.keep]
+        cands = stages.solve(TRACE, m, st, P, R, ref, None)
+        outs = []
+        for q, e, f in cands:
+            q, f = list(q), list(f)
+            q.insert(j, qf)
+            f.insert(j, False)
+            outs.append((tuple(q), e, tuple(f)))
+        fn, src = build(g, names, outs, f"reduced{j}_{st.kind}_{'vector' if vector else 'scalar'}", vector)
+        return fn, src, len(cands)
+
+    def one(self, xyz, R, ref, qf):
+        """Candidates for one target with the fixed joint at ``qf`` (plain floats)."""
+        fn = self.kernel(False)[0]
+        x, y, z = (float(v) for v in xyz)
+        return fn(x, y, z, *tuple(np.asarray(R, float).ravel().tolist()), *(float(v) for v in ref), float(qf))
+
+    def many(self, P, R, ref, qf):
+        """Candidates (Q (N, B, n), exact (N, B), free (N, B, n)) for N targets / fixed-joint values ``qf`` (N,)."""
+        fn, _, B = self.kernel(True)
+        P = np.asarray(P, float)
+        N = P.shape[0]
+        R = np.asarray(R, float)
+        ref = np.asarray(ref, float)
+        out = fn(P[:, 0], P[:, 1], P[:, 2], *[R[:, a, b] for a in range(3) for b in range(3)],
+                 *[ref[..., k] for k in range(self.n)], np.asarray(qf, float))
+        Q = np.empty((N, B, self.n))
+        ex = np.empty((N, B), bool)
+        fr = np.empty((N, B, self.n), bool)
+        for b, (q, e, f) in enumerate(out):
+            for k in range(self.n):
+                Q[:, b, k] = q[k]
+                fr[:, b, k] = f[k]
+            ex[:, b] = e
+        return Q, ex, fr
+
+
+REDUCE_ORDER = (2, 0, 1, 3, 4, 5, 6)
+"""Joints tried, in order, as the fixed joint of a seven-axis arm (the third first: an upper-arm twist)."""
+
+
+def reduced_plan(chain) -> ReducedPlan | None:
+    """A :class:`ReducedPlan` for a seven-axis arm whose other six joints have a closed form for every value
+    of one fixed joint (None otherwise; kept with the chain)."""
+
+    def make(c):
+        if c.n != 7:
+            return None
+        L = chain_lines(c)
+        from poser.core.transforms import rot_axis
+
+        for j in REDUCE_ORDER:
+            if not L.revolute[j]:
+                continue
+            keep = [k for k in range(c.n) if k != j]
+            found = []
+            for qf in (0.9, -2.1, 2.6):  # generic values: at special ones (0) axes may line up by chance
+                Rj = rot_axis(L.w[j], qf)
+                o = np.array([L.o[k] if k < j else L.o[j] + Rj @ (L.o[k] - L.o[j]) for k in keep])
+                w = np.array([L.w[k] if k < j else Rj @ L.w[k] for k in keep])
+                M = np.array(L.M, float)
+                M[:3, :3] = Rj @ M[:3, :3]
+                M[:3, 3] = L.o[j] + Rj @ (M[:3, 3] - L.o[j])
+                st = recognise_lines(o, w, [L.revolute[k] for k in keep], M, L.scale)
+                found.append(st)
+            st0 = found[0]
+            if st0 is None or st0.kind != "pieper6" or any(
+                s is None or (s.kind, s.stage) != (st0.kind, st0.stage) for s in found
+            ):
+                continue
+            plan = ReducedPlan(c, j, st0, L)
+            # which constants turn with the fixed joint: the wrist centre lies on joints after it; a meeting
+            # point of the stage on lines all before it or all after it (mixed: not a rigid structure)
+            plan._point_moves = all(k > j for k in (keep[i] for i in st0.wrist))
+            stage_lines = [keep[i] for i in st0.joints]
+            if st0.stage == "ball":
+                ends = [keep[st0.joints[0]], keep[st0.joints[1]]]
+            elif st0.stage == "rrr23":
+                ends = [keep[st0.joints[1]], keep[st0.joints[2]]]
+            else:
+                ends = stage_lines
+            after = [k > j for k in ends]
+            if any(after) and not all(after) and st0.stage in ("ball", "rrr23"):
+                continue
+            plan._extra_moves = all(after)
+            return plan
+        return None
+
+    return chain.derived("ik_reduced_plan", make)
 
 
 def kernel_source(chain, vector: bool = False, turn_given: bool = False) -> str:
