@@ -68,6 +68,15 @@ def _residual(chain, P, R, F, weight):
     return np.concatenate([ep, er], axis=1)
 
 
+def _damped(Ja, lam, e, eye):
+    """y with ``(Ja Jaᵀ + λ I) y = e`` for every start; λ at least 1e-12 of the largest diagonal entry, so a
+    Jacobian without rows (every joint at a limit) or with huge ones still gives a solvable system."""
+    A = Ja @ np.swapaxes(Ja, 1, 2)
+    floor = 1e-12 * np.maximum(np.max(np.abs(np.diagonal(A, axis1=1, axis2=2)), axis=1), 1e-300)
+    A += (np.maximum(lam, floor) + 1e-300)[:, None, None] * eye
+    return np.linalg.solve(A, e[..., None])[..., 0]
+
+
 def dls(chain, P, R, q0, *, tol, max_iter=MAX_ITER, clip=False, weight=(1.0, 1.0)):
     """Damped least squares from every start at once.
 
@@ -135,9 +144,16 @@ def dls(chain, P, R, q0, *, tol, max_iter=MAX_ITER, clip=False, weight=(1.0, 1.0
         if idx.size == 0:
             break
         Ja = J[idx, :m, :] * row_scale[None, :, None] * col_scale[None, None, :]
-        A = Ja @ np.swapaxes(Ja, 1, 2) + lam[idx, None, None] * eye
-        y = np.linalg.solve(A, e[idx][..., None])[..., 0]
+        y = _damped(Ja, lam[idx], e[idx], eye)
         dz = np.einsum("kmn,km->kn", Ja, y)
+        if clip:
+            # joints at a limit that the step pushes further leave the step (an active set): solve again
+            # without them, so the others move instead of the step being cut off at the limit
+            qi = q[idx]
+            stuck = ((qi <= lo + 1e-12) & (dz < 0)) | ((qi >= hi - 1e-12) & (dz > 0))
+            if stuck.any():
+                Jf = Ja * ~stuck[:, None, :]
+                dz = np.einsum("kmn,km->kn", Jf, _damped(Jf, lam[idx], e[idx], eye))
         over = np.max(np.abs(dz) / step_cap, axis=1)
         dz /= np.maximum(over, 1.0)[:, None]
         qn = q[idx] + dz * col_scale

@@ -25,7 +25,7 @@ import time
 import numpy as np
 
 from poser.core.errors import PoserValueError
-from poser.core.ik import closed, families, numeric, turns
+from poser.core.ik import closed, families, labels, numeric, turns
 from poser.core.ik.closest import closest_approach
 from poser.core.ik.evaluate import Evaluation, evaluate
 from poser.core.ik.result import FAULT, SOLVED, Branch, IKResult
@@ -187,6 +187,21 @@ def _reduced_candidates(chain, rplan, xyz, R, ref, C):
         C.add(q, fam)
 
 
+def _run_starts(chain, xyz, R, S, tol, deadline, clip=False):
+    """Damped least squares from starts S; with a time guard, in blocks until the time runs out."""
+    if deadline is None:
+        q, _, _, conv = numeric.dls(chain, xyz, R, S, tol=tol, clip=clip)
+        return q, conv, True
+    out_q, out_c = [], []
+    for s in range(0, len(S), 16):
+        if s and time.perf_counter() > deadline:
+            return np.vstack(out_q), np.concatenate(out_c), False
+        qb, _, _, cb = numeric.dls(chain, xyz, R, S[s : s + 16], tol=tol, clip=clip)
+        out_q.append(qb)
+        out_c.append(cb)
+    return np.vstack(out_q), np.concatenate(out_c), True
+
+
 def _numeric_candidates(chain, xyz, R, ref, C, tol, redundant, options, deadline):
     K = int(options.get("seeds", 96 if redundant else 64))
     starts = [ref[None], np.asarray(chain.home, float)[None]]
@@ -195,37 +210,43 @@ def _numeric_candidates(chain, xyz, R, ref, C, tol, redundant, options, deadline
         starts.append(np.array([q for q, _, _ in ap.one(xyz, R, ref)], float))
     starts.append(numeric.seeds(chain, K))
     S = np.vstack(starts)
-    complete = True
-    if deadline is None:
-        q, _, _, conv = numeric.dls(chain, xyz, R, S, tol=tol)
-    else:  # a time guard: the starts in blocks, stopping when time runs out (said in the result)
-        out_q, out_c = [], []
-        for s in range(0, len(S), 16):
-            if s and time.perf_counter() > deadline:
-                complete = False
-                break
-            qb, _, _, cb = numeric.dls(chain, xyz, R, S[s : s + 16], tol=tol)
-            out_q.append(qb)
-            out_c.append(cb)
-        q, conv = np.vstack(out_q), np.concatenate(out_c)
+    q, conv, complete = _run_starts(chain, xyz, R, S, tol, deadline)
     Q = q[conv]
-    keep = _dedupe(chain, Q, 1e-2 if redundant else 1e-6)
-    Q = Q[keep]
-    if redundant and len(Q):
-        count = int(options.get("representatives", 8))
-        placed = turns.place(chain, Q)
-        dist = np.linalg.norm(np.where(chain.revolute, wrap(Q - ref), (Q - ref) / chain.scale), axis=1)
-        score = dist + 100.0 * ~turns.fits(chain, placed)
-        Q = Q[_spread(chain, Q, score, count)]
-    fam_kind = None
-    if redundant:
-        from poser.core.ik.result import Family
+    if not redundant:
+        for row in Q[_dedupe(chain, Q, 1e-6)]:
+            C.add(row)
+        return complete
+    # a family: search it within the limits too (projected steps), so that each configuration's verdict is
+    # "some member within limits" whenever the search meets one, not the verdict of an arbitrary member
+    inner = np.vstack([np.clip(turns.place(chain, Q), chain.lower, chain.upper), numeric.seeds(chain, K, False)])
+    qi, convi, done = _run_starts(chain, xyz, R, inner, tol, deadline, clip=True)
+    complete &= done
+    inside = qi[convi]
+    allq = np.vstack([inside, Q]) if len(inside) else Q
+    if not len(allq):
+        return complete
+    placed = turns.place(chain, allq)
+    ok = turns.fits(chain, placed)
+    F = chain.frames(placed)
+    words = labels.describe(chain, placed, F)
+    d = np.linalg.norm(np.where(chain.revolute, wrap(allq - ref), (allq - ref) / chain.scale), axis=1)
+    count = int(options.get("representatives", 8))
+    groups: dict = {}
+    for k, w in enumerate(words):
+        groups.setdefault(w, []).append(k)
+    from poser.core.ik.result import Family
 
-        fam_kind = Family("self-motion", ("self-motion",), (), tuple(range(chain.n)), None,
-                          1.0 if len(Q) and bool(turns.fits(chain, turns.place(chain, Q)).any()) else 0.0,
-                          len(S), complete)
-    for q in Q:
-        C.add(q, fam_kind)
+    picked = []
+    for ks in groups.values():
+        ks = np.array(ks)
+        good = ks[ok[ks]]
+        best = good[np.argmin(d[good])] if len(good) else ks[np.argmin(d[ks])]
+        fam = Family("self-motion", ("self-motion",), (), tuple(range(chain.n)), None,
+                     float(ok[ks].mean()), int(len(ks)), complete)
+        picked.append((not ok[best], d[best], best, fam))
+    picked.sort(key=lambda x: (x[0], x[1]))
+    for _, _, k, fam in picked[:count]:
+        C.add(allq[k], fam)
     return complete
 
 
