@@ -99,42 +99,50 @@ def describe(chain, Q, F) -> list[str]:
     seven = chain.n >= 7
     out = []
     for k, (S, E, W, f) in enumerate(P):
-        words = []
         if an.kind == "planar":
             a = an.axis.tolist()
             d, v = _inplane(_sub(W, S), a), _inplane(_sub(E, S), a)
-            words.append(_bend(d, v, tiny) or _planar_bend(a, up, d, v))
-            out.append(" · ".join(words))
+            out.append(_bend(d, v, tiny) or _planar_bend(a, up, d, v))
             continue
-        h = _inplane(_sub(W, bo), bw)
-        side = _dot(h, f)
-        if sqrt(_dot(h, h)) <= tiny:
-            words.append("wrist over the base axis")
+        # the wrist point across the base axis, and on which side of it the arm faces
+        h0, h1, h2 = W[0] - bo[0], W[1] - bo[1], W[2] - bo[2]
+        t = h0 * bw[0] + h1 * bw[1] + h2 * bw[2]
+        h0, h1, h2 = h0 - bw[0] * t, h1 - bw[1] * t, h2 - bw[2] * t
+        side = h0 * f[0] + h1 * f[1] + h2 * f[2]
+        if sqrt(h0 * h0 + h1 * h1 + h2 * h2) <= tiny:
+            words = "wrist over the base axis"
         elif abs(side) <= tiny:
-            words.append("wrist beside the base axis")
+            words = "wrist beside the base axis"
         else:
-            words.append("shoulder front" if side > 0 else "shoulder back")
+            words = "shoulder front" if side > 0 else "shoulder back"
         if an.elbow is not None and not an.elbow_prismatic:
-            d, v = _sub(W, S), _sub(E, S)
-            bent = _bend(d, v, tiny)
-            if bent is None:
-                if seven:
-                    b = _dot(_cross(v, _sub(W, E)), axes[k])
-                    bent = "elbow bend positive" if b > 0 else "elbow bend negative"
-                else:
-                    t = _dot(v, d) / max(_dot(d, d), 1e-300)
-                    pe = (v[0] - d[0] * t, v[1] - d[1] * t, v[2] - d[2] * t)
-                    upc = _dot(pe, up)
-                    sgn = upc if abs(upc) > 1e-3 * sqrt(_dot(pe, pe)) else _dot(pe, f)
-                    bent = "elbow up" if sgn > 0 else "elbow down"
-            words.append(bent)
+            d0, d1, d2 = W[0] - S[0], W[1] - S[1], W[2] - S[2]
+            v0, v1, v2 = E[0] - S[0], E[1] - S[1], E[2] - S[2]
+            dd = d0 * d0 + d1 * d1 + d2 * d2
+            vd = v0 * d0 + v1 * d1 + v2 * d2
+            t = vd / (dd if dd > 1e-300 else 1e-300)
+            p0, p1, p2 = v0 - d0 * t, v1 - d1 * t, v2 - d2 * t  # the elbow off the shoulder–wrist line
+            npe = sqrt(p0 * p0 + p1 * p1 + p2 * p2)
+            if npe <= tiny:
+                bent = "arm stretched" if vd - (v0 * v0 + v1 * v1 + v2 * v2) >= 0 else "arm folded"
+            elif seven:
+                z = axes[k]
+                c0, c1, c2 = _cross((v0, v1, v2), (W[0] - E[0], W[1] - E[1], W[2] - E[2]))
+                bent = "elbow bend positive" if c0 * z[0] + c1 * z[1] + c2 * z[2] > 0 else "elbow bend negative"
+            else:
+                upc = p0 * up[0] + p1 * up[1] + p2 * up[2]
+                sgn = upc if abs(upc) > 1e-3 * npe else p0 * f[0] + p1 * f[1] + p2 * f[2]
+                bent = "elbow up" if sgn > 0 else "elbow down"
+            words += " · " + bent
         elif an.elbow is not None:
-            words.append("boom forward" if _dot(axes[k], _sub(W, S)) >= 0 else "boom reversed")
+            z = axes[k]
+            fwd = z[0] * (W[0] - S[0]) + z[1] * (W[1] - S[1]) + z[2] * (W[2] - S[2]) >= 0
+            words += " · boom forward" if fwd else " · boom reversed"
         if beta is not None:
             b = beta[k]
-            words.append("wrist axes aligned" if abs(sin(b)) < ALIGNED_TOL else
-                         ("wrist not flipped" if b > 0 else "wrist flipped"))
-        out.append(" · ".join(words))
+            words += " · " + ("wrist axes aligned" if abs(sin(b)) < ALIGNED_TOL else
+                              ("wrist not flipped" if b > 0 else "wrist flipped"))
+        out.append(words)
     return out
 
 

@@ -26,6 +26,10 @@ __all__ = ["seeds", "dls", "MAX_ITER"]
 
 MAX_ITER = 60
 """Iterations each start may take."""
+STALL_STEPS = 5
+"""A start stops after this many steps in a row that improve its error by less than a millionth."""
+STALL_DAMPING = 1e5
+"""A start stops when its damping climbs past this (steps keep failing: it sits in a minimum)."""
 
 
 def seeds(chain, count: int, full_turns: bool = True, rng_seed: int = 20240613):
@@ -170,7 +174,7 @@ def dls(chain, P, R, q0, *, tol, max_iter=MAX_ITER, clip=False, weight=(1.0, 1.0
         lam[bi] = np.maximum(lam[bi] / 4.0, 1e-12)
         lam[idx[~better]] *= 6.0
         stall[idx] = np.where(better & (rel > 1e-6), 0, stall[idx] + 1)
-        active[idx] = ~done(e[idx]) & (lam[idx] < 1e8) & (stall[idx] < 12)
+        active[idx] = ~done(e[idx]) & (lam[idx] < STALL_DAMPING) & (stall[idx] < STALL_STEPS)
     pos_err = np.linalg.norm(e[:, :3], axis=1) * chain.scale / weight[0]
     ori_err = np.linalg.norm(e[:, 3:], axis=1) / weight[1] if m > 3 else np.zeros(K)
     converged = (pos_err <= tol[0]) & (ori_err <= tol[1])

@@ -133,13 +133,37 @@ def _dedupe(chain, Q, tol):
     K = len(Q)
     if K < 2:
         return list(range(K))
-    d = Q[:, None, :] - Q[None, :, :]
-    d = np.where(chain.revolute, wrap(d), d / chain.scale)
-    close = (np.max(np.abs(d), axis=-1) < tol).tolist()
+    if K > 16:  # many rows (numerical starts): every pair at once
+        d = Q[:, None, :] - Q[None, :, :]
+        d = np.where(chain.revolute, wrap(d), d / chain.scale)
+        close = (np.max(np.abs(d), axis=-1) < tol).tolist()
+        keep = []
+        for k in range(K):
+            row = close[k]
+            if not any(row[j] for j in keep):
+                keep.append(k)
+        return keep
+    # a few rows (a closed form): plain floats, the last joint first (distinct branches nearly always differ
+    # there), each comparison stopping at the first joint that differs; the same test as above
+    rows = Q.tolist()
+    rev = chain.derived("rev_list", lambda c: [bool(r) for r in c.revolute])
+    scale, pi, tp = chain.scale, math.pi, TWO_PI
+    last = len(rev) - 1
+    order = [last] + list(range(last))
     keep = []
-    for k in range(K):
-        row = close[k]
-        if not any(row[j] for j in keep):
+    for k, qk in enumerate(rows):
+        dup = False
+        for j in keep:
+            qj = rows[j]
+            for i in order:
+                d = qk[i] - qj[i]
+                d = abs(pi - (pi - d) % tp) if rev[i] else abs(d / scale)
+                if not d < tol:
+                    break
+            else:
+                dup = True
+                break
+        if not dup:
             keep.append(k)
     return keep
 
@@ -345,20 +369,20 @@ def _solve(chain, xyz, R, near, tol, method, options):
         Qp = turns.place(chain, Q)
         ev = evaluate(chain, Qp, xyz, R)
         pe, oe = ev.position_error, ev.orientation_error
-        hit = [a <= tol[0] and b <= tol[1] for a, b in zip(pe, oe)]
-        # configurations that do not reach are no branches: they only start the closest approach
-        sel = [k for k in range(len(Qp)) if hit[k]]
-        Qp, fams = Qp[sel], [fams[k] for k in sel]
-        ev = Evaluation(*([getattr(ev, f)[k] for k in sel] for f in ("position_error", "orientation_error",
-                                                                       "manipulability", "words")), ev.tool[sel])
-        pe, oe, hit = ev.position_error, ev.orientation_error, [True] * len(sel)
+        sel = [k for k in range(len(Qp)) if pe[k] <= tol[0] and oe[k] <= tol[1]]
+        if len(sel) < len(Qp):  # configurations that do not reach are no branches: they start the closest approach
+            Qp, fams = Qp[sel], [fams[k] for k in sel]
+            ev = Evaluation(*([getattr(ev, f)[k] for k in sel] for f in ("position_error", "orientation_error",
+                                                                           "manipulability", "words")), ev.tool[sel])
+            pe, oe = ev.position_error, ev.orientation_error
+        man, words_k = ev.manipulability, ev.words
         limits = [max_variants if f is None else 1 for f in fams]
         rows, tt, src, counts, _ = turns.expand(chain, Qp, ref, limits)
         listed = [0] * len(Qp)
         for k in src:
             listed[k] += 1
         for k in range(len(Qp)):
-            if hit[k] and fams[k] is None:
+            if fams[k] is None:
                 total += max(counts[k], listed[k])
                 unlisted += max(counts[k] - listed[k], 0)
             else:
@@ -366,24 +390,25 @@ def _solve(chain, xyz, R, near, tol, method, options):
         rows.setflags(write=False)
         # every variant's wide joints fit by construction: a variant breaks what its base row breaks elsewhere
         base_viols = turns.violations_many(chain, Qp, narrow_only=True)
-        viols = [base_viols[k] for k in src]
         dist, parts = _distances(chain, rows, near)
         dref = dist if near is not None else _distances(chain, rows, ref)[0]
         names = chain.names
         keys = []
-        for e, (k, t, v) in enumerate(zip(src, tt, viols)):
-            words = ev.words[k] or "single configuration"
-            label = words
-            nturns = 0
+        none = (None,) * len(src)
+        for e, (k, t, d, part) in enumerate(zip(src, tt, none if dist is None else dist, none if parts is None else
+                                                parts)):
+            v = base_viols[k]
+            fam = fams[k]
+            words = words_k[k] or "single configuration"
             if any(t):
                 label = " · ".join([words] + [f"{names[i]} {x:+d} turn" + ("s" if abs(x) > 1 else "")
                                               for i, x in enumerate(t) if x])
                 nturns = sum(map(abs, t))
-            b = Branch(rows[e], label, words, t, not v, v, pe[k], oe[k], ev.manipulability[k],
-                       None if dist is None else dist[e], hit[k], None if parts is None else parts[e], fams[k],
-                       max(counts[k], 1) if hit[k] and fams[k] is None else 1)
-            branches.append(b)
-            keys.append((not (hit[k] and not v), not hit[k], round(dref[e], 12), nturns, e))
+            else:
+                label, nturns = words, 0
+            branches.append(Branch(rows[e], label, words, t, not v, v, pe[k], oe[k], man[k], d, True, part, fam,
+                                   max(counts[k], 1) if fam is None else 1))
+            keys.append((bool(v), round(dref[e], 12), nturns, e))
         keys.sort()
         branches = [branches[x[-1]] for x in keys]
     cap = int(options.get("max_branches", MAX_BRANCHES))

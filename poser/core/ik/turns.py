@@ -15,6 +15,7 @@ command line and the window all ask it.
 
 from __future__ import annotations
 
+import bisect
 import heapq
 import itertools
 import math
@@ -89,6 +90,21 @@ def violations_many(chain, Q, narrow_only: bool = False) -> list:
     wide joints are still in (-π, π]: their turns are chosen to fit).
     """
     Q = np.asarray(Q, float)
+    if len(Q) <= 16:  # a few rows: plain floats (the same comparisons as below)
+        wide_l, narrow = _expand_plan(chain)
+        joints = narrow if narrow_only else narrow + wide_l
+        names, lo, hi = chain.names, chain.lower.tolist(), chain.upper.tolist()
+        out = []
+        for row in Q.tolist():
+            vs = ()
+            for i, a, b in joints:
+                v = row[i]
+                if v < a:
+                    vs += (Violation(i, names[i], "lower", lo[i], v, lo[i] - v),)
+                elif v > b:
+                    vs += (Violation(i, names[i], "upper", hi[i], v, v - hi[i]),)
+            out.append(tuple(sorted(vs, key=lambda x: x.joint)) if len(vs) > 1 else vs)
+        return out
     tol = tolerances(chain)
     below = Q < chain.lower - tol
     above = Q > chain.upper + tol
@@ -125,6 +141,36 @@ def _expand_plan(chain):
         return w, narrow
 
     return chain.derived("turn_plan", make)
+
+
+def _breaks(lo, hi):
+    """Where in [-π, π] the fitting turns of a joint with limits [lo, hi] change, and the turns between.
+
+    Returns ``(points, spans)``: sorted values at which ``v + k·2π`` crosses a limit for some k, and for each
+    interval between them (and beyond the ends) the ``(kmin, kmax)`` found at its middle.  Values within
+    1e-9 of a point are decided exactly by :func:`_turn_range` (the sums as they will be made).
+    """
+    pts = set()
+    for bound in (lo, hi):
+        k0 = math.floor((bound + math.pi) / TWO_PI)
+        for k in (k0 - 1, k0, k0 + 1):
+            x = bound - k * TWO_PI
+            if -math.pi - 1e-9 <= x <= math.pi + 1e-9:
+                pts.add(x)
+    pts = sorted(p for p in pts if -math.pi < p < math.pi)
+    edges = [-math.pi] + pts + [math.pi]
+    spans = [_turn_range(0.5 * (a + b), lo, hi) for a, b in zip(edges[:-1], edges[1:])]
+    return pts, spans
+
+
+def _turns_of(cache, v, lo, hi):
+    """``(kmin, kmax)`` of value ``v`` for one wide joint, through its cached breakpoints."""
+    pts, spans = cache
+    i = bisect.bisect_right(pts, v)
+    near_edge = (i > 0 and v - pts[i - 1] < 1e-9) or (i < len(pts) and pts[i] - v < 1e-9)
+    if near_edge or v <= -math.pi + 1e-9 or v >= math.pi - 1e-9:
+        return _turn_range(v, lo, hi)
+    return spans[i]
 
 
 def _turn_range(v, lo, hi):
@@ -172,16 +218,22 @@ def expand(chain, Qp, ref, limits):
     if not wide:
         return Qp, [(0,) * n] * K, list(range(K)), [1 if o else 0 for o in ok], ok
     ref_l = np.asarray(ref, float).tolist()
+    caches = chain.derived("turn_breaks", lambda c: [_breaks(lo, hi) for _, lo, hi in _expand_plan(c)[0]])
     rows, tt, src, counts = [], [], [], []
     zero = (0,) * n
     for k, base in enumerate(base_rows):
-        spans = [(i, base[i], *_turn_range(base[i], lo, hi)) for i, lo, hi in wide]
+        spans = [(i, base[i], *_turns_of(cb, base[i], lo, hi)) for (i, lo, hi), cb in zip(wide, caches)]
         count = 1
         for _, _, a, b in spans:
             count *= b - a + 1
         lim = max(1, int(limits[k])) if ok[k] else 1
         if count == 1:
             combos = [tuple(a for _, _, a, _ in spans)]
+        elif lim == 1:  # the one nearest ref, joint by joint
+            combos = [tuple(min(max(round((ref_l[i] - v) / TWO_PI), a), b) for i, v, a, b in spans)]
+            combos = [tuple(min((x for x in (kk - 1, kk, kk + 1) if a <= x <= b),
+                                key=lambda x, v=v, r=ref_l[i]: abs(v + x * TWO_PI - r))
+                            for kk, (i, v, a, b) in zip(combos[0], spans))]
         elif count <= lim:  # every combination (the ranking orders them later)
             combos = itertools.product(*[range(a, b + 1) for _, _, a, b in spans])
         else:  # the nearest ref (the nearest first)
