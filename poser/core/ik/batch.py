@@ -13,7 +13,7 @@ from poser.core.ik.result import BatchResult
 
 __all__ = ["solve_batch", "BATCH_CHUNK"]
 
-BATCH_CHUNK = 1024
+BATCH_CHUNK = 4096
 """Targets solved together (small enough that a chunk's arrays stay in the CPU cache)."""
 
 _pool: ThreadPoolExecutor | None = None
@@ -69,8 +69,9 @@ def solve_batch(chain, xyz, R=None, near=None) -> BatchResult:
     def chunk(s):
         e = min(N, s + BATCH_CHUNK)
         q, x, f = plan.candidates(P[s:e], None if Rn is None else Rn[s:e], ref)
-        qp = turns.place(chain, q)
-        Q[s:e], ex[s:e], fr[s:e], inside[s:e] = qp, x, f, turns.fits(chain, qp)
+        Q[s:e] = q
+        turns.place_inplace(chain, Q[s:e])
+        ex[s:e], fr[s:e], inside[s:e] = x, f, turns.fits(chain, Q[s:e])
 
     starts = range(0, N, BATCH_CHUNK)
     if N >= 4 * BATCH_CHUNK and _workers() > 1:

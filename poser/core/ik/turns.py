@@ -69,6 +69,19 @@ def place(chain, Q):
     return np.where(rev, np.where(wide, wrap(Q), wrap(Q - mid) + mid), Q)
 
 
+def place_inplace(chain, Q):
+    """:func:`place` written into ``Q`` (..., n) itself, joint by joint (for large batches)."""
+    wide = _wide(chain)
+    mid = 0.5 * (chain.lower + chain.upper)
+    for i in np.flatnonzero(chain.revolute):
+        col = Q[..., i]
+        if wide[i]:
+            col[...] = wrap(col)
+        else:
+            col[...] = wrap(col - mid[i]) + mid[i]
+    return Q
+
+
 def fits(chain, Qp):
     """True (...) where placed values ``Qp`` (:func:`place`) are within every joint's limits (some turn fitting)."""
     tol = tolerances(chain)

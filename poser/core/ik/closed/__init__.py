@@ -279,15 +279,16 @@ class Plan:
         ref = np.asarray(ref, float)
         refs = [ref[..., k] for k in range(n)]
         out = fn(P[:, 0], P[:, 1], P[:, 2], *Rs, *refs, 0.0 if phi is None else np.asarray(phi, float))
-        Q = np.empty((N, B, n))
-        ex = np.empty((N, B), bool)
-        fr = np.empty((N, B, n), bool)
+        # gathered joint by joint in rows of N (contiguous copies), then seen as (N, B, n)
+        QT = np.empty((B, n, N))
+        ex = np.empty((B, N), bool)
+        fr = np.empty((B, n, N), bool)
         for b, (q, e, f) in enumerate(out):
             for k in range(n):
-                Q[:, b, k] = q[k]
-                fr[:, b, k] = f[k]
-            ex[:, b] = e
-        return Q, ex, fr
+                QT[b, k] = q[k]
+                fr[b, k] = f[k]
+            ex[b] = e
+        return QT.transpose(2, 0, 1), ex.T, fr.transpose(2, 0, 1)
 
     SCALAR_UP_TO = 4
     """Up to this many targets run one by one in plain floats (numpy's per-call cost would dominate)."""

@@ -393,6 +393,83 @@ def _expr(op, args, names, vector):
     raise ValueError(f"cannot write operation {op!r}")
 
 
+_UFUNC = {"add": "np.add", "sub": "np.subtract", "mul": "np.multiply", "div": "np.divide", "le": "np.less_equal",
+          "lt": "np.less", "ge": "np.greater_equal", "gt": "np.greater", "ne": "np.not_equal", "neg": "np.negative",
+          "sin": "np.sin", "cos": "np.cos", "abs": "np.abs", "atan2": "np.arctan2", "hypot": "np.hypot",
+          "not": "np.logical_not", "and": "np.logical_and", "or": "np.logical_or", "sqrt": "np.sqrt"}
+_BOOL_OPS = {"le", "lt", "ge", "gt", "ne", "not", "and", "or"}
+
+
+def _is_bool(x, types):
+    if isinstance(x, Sym):
+        return types.get(x.i, False)
+    return isinstance(x, (bool, np.bool_))
+
+
+def _buffered(g, need, outputs_idx, inputs):
+    """Numpy statements writing every operation into preallocated rows (float rows ``f``, bool rows ``b``),
+    each row reused once its value is no longer needed.  Returns (lines, names, float rows, bool rows)."""
+    order = [i for i in range(len(g.nodes)) if i in need]
+    last = {}
+    for i in order:
+        for a in g.nodes[i][1]:
+            if isinstance(a, Sym):
+                last[a.i] = i
+    for i in outputs_idx:
+        last[i] = len(g.nodes) + 1  # outputs stay until the end
+    types = {}
+    names = {}
+    free_f, free_b, nf, nb = [], [], 0, 0
+    lines = []
+    for i in order:
+        op, args = g.nodes[i]
+        if op == "in":
+            names[i] = args[0]
+            continue
+        if op == "where":
+            is_b = _is_bool(args[1], types) and _is_bool(args[2], types)
+        else:
+            is_b = op in _BOOL_OPS
+        types[i] = is_b
+        if is_b:
+            if free_b:
+                slot = free_b.pop()
+            else:
+                slot, nb = nb, nb + 1
+            names[i] = f"b{slot}"
+        else:
+            if free_f:
+                slot = free_f.pop()
+            else:
+                slot, nf = nf, nf + 1
+            names[i] = f"f{slot}"
+        out = names[i]
+        a = [_arg(x, names) for x in args]
+        if op in _UFUNC:
+            lines.append(f"    {_UFUNC[op]}({', '.join(a)}, out={out})")
+        elif op == "sqrt0":
+            lines.append(f"    np.maximum({a[0]}, 0.0, out={out})")
+            lines.append(f"    np.sqrt({out}, out={out})")
+        elif op == "acos1":
+            lines.append(f"    np.clip({a[0]}, -1.0, 1.0, out={out})")
+            lines.append(f"    np.arccos({out}, out={out})")
+        elif op == "safe":  # x, or 1 where x is exactly 0
+            lines.append(f"    np.equal({a[0]}, 0.0, out={out})")
+            lines.append(f"    np.add({a[0]}, {out}, out={out})")
+        elif op == "where":
+            lines.append(f"    np.copyto({out}, {a[2]})")
+            lines.append(f"    np.copyto({out}, {a[1]}, where={a[0]})")
+        else:
+            raise ValueError(f"cannot write operation {op!r}")
+        # operands whose last use this was give their rows back (after the output took its own row)
+        done = set()
+        for x in args:
+            if isinstance(x, Sym) and x.i not in done and last.get(x.i) == i and g.nodes[x.i][0] != "in":
+                done.add(x.i)  # (an operand used twice in one operation is given back once)
+                (free_b if types.get(x.i) else free_f).append(int(names[x.i][1:]))
+    return lines, names, nf, nb
+
+
 def build(g: Graph, inputs: list[str], outputs, name: str, vector: bool):
     """Python source and function for ``outputs`` of traced graph ``g``.
 
@@ -427,8 +504,27 @@ def build(g: Graph, inputs: list[str], outputs, name: str, vector: bool):
                 stack.append(a.i)
     names = {}
     lines = [f"def {name}({', '.join(inputs)}):"]
+    if vector:
+        out_idx = set()
+
+        def outs(x):
+            if isinstance(x, tuple):
+                for v in x:
+                    outs(v)
+            elif isinstance(x, Sym):
+                out_idx.add(x.i)
+
+        outs(outputs)
+        body, names, nf, nb = _buffered(g, need, out_idx, inputs)
+        lines.append(f"    N = {inputs[0]}.shape[0]")
+        if nf:
+            lines.append(f"    {', '.join(f'f{k}' for k in range(nf))}{',' if nf == 1 else ''} = np.empty(({nf}, N))")
+        if nb:
+            lines.append(f"    {', '.join(f'b{k}' for k in range(nb))}{',' if nb == 1 else ''} = "
+                         f"np.empty(({nb}, N), dtype=bool)")
+        lines += body
     for i, (op, args) in enumerate(g.nodes):
-        if i not in need:
+        if vector or i not in need:
             continue
         if op == "in":
             names[i] = args[0]
