@@ -20,7 +20,11 @@ __all__ = ["closest_approach"]
 
 STARTS = 6
 """Spread starts added to the candidates."""
-ITERATIONS = 40
+POLISH = 1
+"""The best starts polished by a bounded quasi-Newton search when the target is out of reach."""
+POLISH_ITERATIONS = 100
+"""Iterations of that polish (it stops earlier once the distance no longer changes in its 15th digit)."""
+ITERATIONS = 20
 """Iterations of each of the two stages."""
 
 
@@ -44,6 +48,12 @@ def closest_approach(chain, xyz, R, ref, candidates, tol):
     starts.append(numeric.seeds(chain, STARTS, full_turns=False))
     S = np.vstack(starts)
     q1, pe1, _, _ = numeric.dls(chain, xyz, None, S, tol=tol, max_iter=ITERATIONS, clip=True)
+    if float(pe1.min()) > tol[0] and chain.n > 1:
+        # out of reach: the nearest pose is usually stretched out (singular), where damped least squares
+        # creeps; a quasi-Newton polish within the limits settles the distance to the last digit
+        order = np.argsort(pe1)[:POLISH]
+        for k in order:
+            q1[k], pe1[k] = _polish(chain, xyz, q1[k])
     best_p = float(pe1.min())
     if R is None:
         k = int(np.argmin(pe1))
@@ -62,3 +72,30 @@ def closest_approach(chain, xyz, R, ref, candidates, tol):
     idx = np.flatnonzero(ok)
     k = int(idx[np.lexsort((pe2[idx], oe2[idx]))[0]])
     return q2[k], float(pe2[k]), float(oe2[k])
+
+
+def _polish(chain, xyz, q0):
+    """Minimise the tool point's squared distance from ``xyz`` within the limits (L-BFGS-B, analytic gradient,
+    a fixed iteration budget; scipy.optimize.minimize); returns (q, distance)."""
+    from scipy.optimize import minimize  # late: the window never needs scipy unless a target is out of reach
+
+    from poser.core.fk import frames
+    from poser.core.jacobian import jacobian_from_frames
+
+    L = chain.scale
+    scale = np.where(chain.revolute, 1.0, L)  # prismatic joints in units of the arm's size
+
+    def f(z):
+        q = z * scale
+        F = frames(chain, q[None])
+        d = (F[0, -1, :3, 3] - xyz) / L
+        g = 2.0 * (jacobian_from_frames(chain, F)[0, :3].T @ d) / L * scale
+        return float(d @ d), g
+
+    bounds = list(zip(chain.lower / scale, chain.upper / scale))
+    res = minimize(f, np.clip(q0, chain.lower, chain.upper) / scale, jac=True, method="L-BFGS-B", bounds=bounds,
+                   options={"maxiter": POLISH_ITERATIONS, "ftol": 1e-15, "gtol": 1e-12, "maxcor": 20})
+    q = np.clip(res.x * scale, chain.lower, chain.upper)
+    d = float(np.linalg.norm(chain.fk(q)[:3, 3] - xyz))
+    d0 = float(np.linalg.norm(chain.fk(np.clip(q0, chain.lower, chain.upper))[:3, 3] - xyz))
+    return (q, d) if d <= d0 else (np.clip(q0, chain.lower, chain.upper), d0)
