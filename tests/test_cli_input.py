@@ -127,3 +127,55 @@ def test_position_only_shows_no_orientation_error_and_large_misses_read_plainly(
     # columns: #, three joints, pos err, ori err, …: the miss is 4119 mm (not 4.12e+03) and no orientation
     # was asked for, so its error is a dash, not a 0 that would claim a match
     assert cells[4] == "4119" and cells[5] == "–"
+
+
+# -- output errors are not answers -----------------------------------------------------------------
+
+
+def _poser(*args, stdout):
+    import subprocess
+    import sys
+
+    return subprocess.run([sys.executable, "-m", "poser", *args], stdout=stdout, stderr=subprocess.PIPE, text=True,
+                          timeout=120)
+
+
+def test_a_full_disk_is_an_error_not_an_answer():
+    """Writing the answer to /dev/full fails: exit 2 and one line on stderr (exit 1 would mean "not reachable")."""
+    with open("/dev/full", "w") as full:
+        for args in (("ik", HERON, "--xyz", "3000,0,900", "--rpy", "180,0,0"), ("fk", HERON, "--joints", "0,0,0,0,0,0"),
+                     ("check", HERON)):
+            res = _poser(*args, stdout=full)
+            assert res.returncode == 2, (args, res.stderr)
+            lines = res.stderr.strip().splitlines()
+            assert len(lines) == 1 and lines[0].startswith("poser: error: cannot write the output"), res.stderr
+            assert "Traceback" not in res.stderr
+
+
+def test_a_closed_pipe_is_an_error_not_an_answer():
+    import os
+    import subprocess
+    import sys
+
+    r, w = os.pipe()
+    os.close(r)  # nobody reads: the first write breaks the pipe
+    try:
+        res = subprocess.run([sys.executable, "-m", "poser", "ik", HERON, "--xyz", "900,-300,900", "--rpy", "180,0,0"],
+                             stdout=w, stderr=subprocess.PIPE, text=True, timeout=120)
+    finally:
+        os.close(w)
+    assert res.returncode == 2
+    assert res.stderr.strip().startswith("poser: error: cannot write the output")
+    assert "Traceback" not in res.stderr
+
+
+@pytest.mark.parametrize("bad", ["-nan", "-inf", "nan", "inf"])
+def test_not_a_number_after_a_list_option_is_named(bad, capsys):
+    code, out, err = run(capsys, "fk", HERON, "--joints", f"{bad},0,0,0,0,0")
+    assert_single_error(code, out, err, "--joints must be finite numbers")
+
+
+def test_a_mistyped_command_is_named_with_a_suggestion(tmp_path, capsys, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    code, out, err = run(capsys, "fkk", "arm.toml")
+    assert_single_error(code, out, err, "unknown command 'fkk'; did you mean 'fk'?")

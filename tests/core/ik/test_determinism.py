@@ -57,3 +57,17 @@ def test_twenty_solves_agree_to_the_last_bit(stem, xyz, rpy):
     first = _fingerprint(solve(ch, xyz, R, near=ch.home))
     for _ in range(19):
         assert _fingerprint(solve(ch, xyz, R, near=ch.home)) == first
+
+
+def test_a_time_guard_that_cuts_the_search_says_so():
+    """A caller that must stay responsive may bound the numerical search by time: the result then says it was
+    cut (never looks complete); without the guard there is no clock at all."""
+    from poser import report
+
+    ch = _demo("wren6")
+    R = rpy_to_matrix(np.radians([180.0, 30.0, 0.0]))
+    cut = solve(ch, [600.0, 100.0, 500.0], R, near=ch.home, time_guard=1e-9)
+    assert not cut.complete
+    assert "cut short" in report.ik_message(ch, cut)
+    full = solve(ch, [600.0, 100.0, 500.0], R, near=ch.home)
+    assert full.complete and len(full.branches) >= len(cut.branches)
