@@ -11,3 +11,7 @@ class PoserError(Exception):
 
 class PoserValueError(PoserError, ValueError):
     """An argument has the wrong shape, type or value."""
+
+
+class Cancelled(PoserError):
+    """A long computation stopped because its ``progress`` callback asked it to (it returned False)."""
