@@ -49,8 +49,11 @@ def test_typing_a_value_moves_only_that_joint_and_does_not_echo(make_window, qtb
     row = win.joints.rows[2]
     seen = []
     win.state.changed.connect(seen.append)
+    row.spin.setFocus()
     row.spin.selectAll()
     qtbot.keyClicks(row.spin, "35")
+    assert win.state.q_user[2] == pytest.approx(0.0)  # nothing applied while typing (see test_typing.py)
+    qtbot.keyClick(row.spin, Qt.Key.Key_Return)
     assert win.state.q_user[2] == pytest.approx(35.0)
     assert row.spin.value() == pytest.approx(35.0)
     assert row.slider.value() == row.value_to_slider(35.0)
