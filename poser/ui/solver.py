@@ -7,8 +7,9 @@ to the state's present target and arm (:attr:`PoseState.arm_generation`,
 the target object itself) and is the newest asked for; any other is dropped
 (:attr:`TargetSolver.dropped` counts them).  The worker also computes each
 branch's singularity verdict (:func:`poser.ui.state.branch_infos`) and the
-branch list's texts (:func:`poser.ui.words.branch_rows`), so the GUI thread
-only stores and shows.  No time guard is passed: a solve is a few
+branch list's texts (:func:`poser.ui.words.branch_rows`) and the ghosts'
+drawings (:func:`poser.ui.state.ghost_drawings`), so the GUI thread only
+stores and shows.  No time guard is passed: a solve is a few
 tens of milliseconds on every demo arm and on a 32-joint one, and it no
 longer blocks anything.
 """
@@ -22,7 +23,7 @@ import numpy as np
 from PySide6.QtCore import QObject, QThreadPool, QTimer, Signal
 
 from poser.ui import ikbridge
-from poser.ui.state import PoseState, Target, branch_infos
+from poser.ui.state import PoseState, Target, branch_infos, ghost_drawings
 from poser.ui.words import branch_rows
 
 
@@ -45,6 +46,7 @@ class SolveOutcome:
     result: object = None
     infos: tuple | None = None
     rows: tuple | None = None
+    drawings: tuple | None = None
     error: str = ""
     seconds: float = 0.0
 
@@ -56,10 +58,11 @@ def compute(job: SolveJob) -> SolveOutcome:
         result = ikbridge.solve(job.chain, job.target.xyz, job.target.R, near=job.near)
         infos = branch_infos(job.chain, result.branches)
         rows = branch_rows(job.chain, result, infos)
+        drawings = ghost_drawings(job.chain, result.branches)
     except Exception as exc:  # the window must not die on a solver error; say it
         return SolveOutcome(job, error=f"the solver failed: {type(exc).__name__}: {exc}",
                             seconds=time.perf_counter() - t0)
-    return SolveOutcome(job, result, infos, rows, seconds=time.perf_counter() - t0)
+    return SolveOutcome(job, result, infos, rows, drawings, seconds=time.perf_counter() - t0)
 
 
 class _Relay(QObject):
@@ -182,7 +185,7 @@ class TargetSolver(QObject):
             return False
         self.last_error = ""
         self.last_seconds = out.seconds
-        self.state.set_ik(out.result, writer=self, infos=out.infos, rows=out.rows)
+        self.state.set_ik(out.result, writer=self, infos=out.infos, rows=out.rows, drawings=out.drawings)
         self.solved.emit()
         return True
 

@@ -31,7 +31,8 @@ from poser.core.fk import link_transforms
 from poser.core.units import LENGTH_UNITS
 from poser.ui import geometry
 
-__all__ = ["PoseState", "Target", "BranchInfo", "branch_infos", "same_kinematics", "FIELDS", "DEFAULT_OPTIONS"]
+__all__ = ["PoseState", "Target", "BranchInfo", "branch_infos", "ghost_drawings", "same_kinematics", "FIELDS",
+           "DEFAULT_OPTIONS"]
 
 FIELDS = ("arm", "q", "target", "ik", "selected", "hovered", "options", "document", "spec")
 """Names ``PoseState.changed`` carries.
@@ -122,6 +123,11 @@ def branch_infos(chain: Chain, branches) -> tuple:
     return tuple(branch_info(chain, b.q) for b in branches)
 
 
+def ghost_drawings(chain: Chain, branches):
+    """``(drawings, index)`` for the branches' ghosts (Qt-free: the solver's worker thread calls it)."""
+    return geometry.distinct_drawings(chain, [b.q for b in branches])
+
+
 def same_kinematics(a: Chain, b: Chain) -> bool:
     """True when two chains differ at most in the arm's name (the same joints, base, tool and units)."""
     return (a.joints == b.joints and np.array_equal(a.base, b.base) and np.array_equal(a.tool, b.tool)
@@ -154,6 +160,7 @@ class PoseState(QObject):
         self._ik = None
         self._infos: tuple | None = None
         self._rows: tuple | None = None
+        self._drawings = None
         self._selected = -1
         self._hovered = -1
         self._options = dict(DEFAULT_OPTIONS)
@@ -232,6 +239,13 @@ class PoseState(QObject):
                 self.branch_info(0)  # fills every branch's info
             self._rows = branch_rows(self._chain, self._ik, self._infos or ()) if self._ik is not None else ()
         return self._rows
+
+    def ghost_drawings(self):
+        """``(drawings, index)`` of every branch (:func:`poser.ui.geometry.distinct_drawings`: look-alikes
+        merged; ``index[i]`` is branch ``i``'s drawing), made once per result — on the solver's worker."""
+        if self._drawings is None or len(self._drawings[1]) != len(self.branches):
+            self._drawings = ghost_drawings(self._chain, self.branches)
+        return self._drawings
 
     def shown_branches(self) -> list[int]:
         """Indices of the branches the list and the ghosts show (all, or those within limits that reach,
@@ -370,12 +384,12 @@ class PoseState(QObject):
         self.set_ik(None, writer)
         return True
 
-    def set_ik(self, result, writer=None, infos=None, rows=None) -> bool:
+    def set_ik(self, result, writer=None, infos=None, rows=None, drawings=None) -> bool:
         """Store an IK result (or None); clears the selection and the hover.
 
         ``infos`` (a :class:`BranchInfo` per branch, from :func:`branch_infos`) and ``rows`` (the branch
-        list's texts, :func:`poser.ui.words.branch_rows`) save computing them here: the solver's worker
-        makes both.
+        list's texts, :func:`poser.ui.words.branch_rows`) and ``drawings`` (:func:`ghost_drawings`) save
+        computing them here: the solver's worker makes all three.
         """
         if result is self._ik:
             return False
@@ -385,6 +399,7 @@ class PoseState(QObject):
         self._ik = result
         self._infos = tuple(infos) if infos is not None and result is not None else None
         self._rows = tuple(rows) if rows is not None and result is not None else None
+        self._drawings = drawings if drawings is not None and result is not None else None
         self._emit("ik", writer)
         self.select_branch(-1, writer)
         self.hover_branch(-1, writer)
@@ -460,7 +475,7 @@ class PoseState(QObject):
             self._q = q
             had_ik = self._ik is not None
             self._ik = None
-            self._infos = self._rows = None
+            self._infos = self._rows = self._drawings = None
             self._selected = self._hovered = -1
             self._arm_generation += 1
             converted = self._convert_target(old, chain)
