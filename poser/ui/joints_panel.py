@@ -37,6 +37,14 @@ TINTS = {"near": "#FBEFCF", "at": "#F8D7D7", "beyond": "#F8D7D7"}
 """Light fills of a value box near or at a limit (the words beside it say the same)."""
 
 
+def spin_bound(lower: float, upper: float) -> float:
+    """The largest size a joint's value box takes: the power of ten above ten times the joint's largest number."""
+    import math
+
+    biggest = max(abs(lower), abs(upper), upper - lower, 1e-3)
+    return 10.0 ** math.ceil(math.log10(biggest * 10.0))
+
+
 class MarginBar(QWidget):
     """The joint's range as a bar: amber ends within the margin, red end marks, a marker at the value."""
 
@@ -100,9 +108,11 @@ class JointRow:
         self.slider.setAccessibleName(f"{name} slider")
         self.slider.setToolTip(f"{name}: drag over the range {fmt(lo)} … {fmt(hi)} {unit}")
         self.spin = QDoubleSpinBox()
-        span = hi - lo
         self.spin.setDecimals(DECIMALS.get(unit, 4))  # before the range: Qt rounds the range to the decimals
-        self.spin.setRange(lo - 0.5 * span, hi + 0.5 * span)
+        # wide enough for any value a person types (Qt drops a keystroke that would leave the range, so a narrow
+        # range turned a typed 456 into 45); beyond the limits the words and colours say so
+        bound = spin_bound(lo, hi)
+        self.spin.setRange(-bound, bound)
         self.spin.setSuffix(f" {unit}")
         self.spin.setKeyboardTracking(False)  # typed digits apply on Enter or after a pause, not one by one
         self.spin.setAccelerated(True)

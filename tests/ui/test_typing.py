@@ -76,3 +76,14 @@ def test_an_arrow_key_after_typing_steps_from_the_typed_value(make_window, qtbot
     QTest.keyClick(row.spin, Qt.Key.Key_Up)
     assert win.state.q_user[0] == pytest.approx(11.0)
     assert row.spin.value() == pytest.approx(11.0) and not row.typing
+
+
+def test_a_value_beyond_the_limits_is_typed_whole_not_cut_short(make_window, qtbot):
+    """With the box's range at the limits ± half the span, Qt dropped the keystroke that left it: 456 in a
+    -100 … 140 deg joint became 45.  The box takes the number; the words say it is beyond the limit."""
+    win = make_window()
+    row = win.joints.rows[1]
+    type_in(row.spin, "456")
+    QTest.keyClick(row.spin, Qt.Key.Key_Return)
+    assert win.state.q_user[1] == pytest.approx(456.0)
+    assert row.words.text() == "BEYOND upper limit by 316 deg"
