@@ -16,7 +16,7 @@ convention).
 
 from __future__ import annotations
 
-from PySide6.QtCore import QSignalBlocker, Qt
+from PySide6.QtCore import QItemSelectionModel, QSignalBlocker, Qt
 from PySide6.QtGui import QColor
 from PySide6.QtWidgets import (
     QAbstractItemView,
@@ -202,7 +202,6 @@ class EditorPanel(QWidget):
         self.message.setWordWrap(True)
         self.message.setAccessibleName("editor check result")
         self.message.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
-        lay.addWidget(self.message)
 
         self.table = CompactTable(0, len(KEYS))
         self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
@@ -217,6 +216,7 @@ class EditorPanel(QWidget):
         self.limits_note.setStyleSheet(f"color: {palette.MUTED}")
         lay.addWidget(self.table, 1)
         lay.addWidget(self.limits_note)
+        lay.addWidget(self.message)  # below the rows: a message growing to more lines never moves a row
         buttons = QHBoxLayout()
         self.add_button = QPushButton("Add joint")
         self.remove_button = QPushButton("Remove joint")
@@ -448,8 +448,15 @@ class EditorPanel(QWidget):
     def first_problem_widget(self):
         """The cell (as the table, with it current) or field of the first problem, focused; None when none."""
         for (r, c) in self.bad_cells:
-            self.table.setCurrentCell(r, c)
+            self.table.clearSelection()  # a selected row would hide the cell's fill
+            item = self.table.item(r, c)
             self.table.setFocus()
+            if item is not None:
+                self.table.selectionModel().setCurrentIndex(
+                    self.table.indexFromItem(item), QItemSelectionModel.SelectionFlag.NoUpdate)
+                self.table.editItem(item)  # ready to type the fix
+            else:
+                self.table.setCurrentCell(r, c)
             return self.table
         for w in self._fields().values():
             if w.styleSheet():
