@@ -177,6 +177,7 @@ class MainWindow(QMainWindow):
         self.notice_bar.setVisible(False)
         self.notice_bar.toggleViewAction().setVisible(False)  # shown while there is a notice, by itself
         self.notices.shown.connect(self.notice_bar.setVisible)
+        self.notices.shown.connect(lambda _on: QTimer.singleShot(0, self._keep_joints_shown))
         self.state.notice.connect(lambda level, text: self.notices.show_notice("state", level, text,
                                                                                timeout_ms=15000))
         self._build_menus()
@@ -223,6 +224,12 @@ class MainWindow(QMainWindow):
         joints = int(min(max(want, 0.3 * h), 0.6 * h))
         self.resizeDocks([self.docks["joints"], self.docks["target"]], [joints, max(h - joints, 1)],
                          Qt.Orientation.Vertical)
+
+    def _keep_joints_shown(self) -> None:
+        """After the notice bar came or went: refit the Joints dock if its rows no longer fit."""
+        scroll = self.docks["joints"].widget()
+        if getattr(self, "_sized", False) and scroll.verticalScrollBar().maximum() > 0:
+            self.fit_joint_dock()
 
     def _build_menus(self) -> None:
         mb = self.menuBar()
@@ -343,7 +350,8 @@ class MainWindow(QMainWindow):
         if ask_if_dirty and st.dirty:
             choice = self.ask("Reload the arm file",
                               f"Reload {printable(st.path.name)} from disk and lose the edits not saved here?",
-                              "Your edits stay in the recovery copy until you save or open another arm.",
+                              "Your edits stay in the recovery copy until your next edit or save; Poser "
+                              "offers it when this file is opened again.",
                               (("reload", "&Reload"), ("cancel", "Cancel")), "cancel", QMessageBox.Icon.Warning)
             if choice != "reload":
                 return False

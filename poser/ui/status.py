@@ -4,7 +4,7 @@ typing: the file changed on disk, recovery copies failing, a target converted to
 
 from __future__ import annotations
 
-from PySide6.QtCore import Qt, QTimer, Signal
+from PySide6.QtCore import QTimer, Signal
 from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel, QPushButton, QSizePolicy, QStatusBar, QVBoxLayout, QWidget
 
 from poser import report
@@ -49,11 +49,10 @@ class NoticeBar(QWidget):
         colour = palette.LEVEL_COLOURS.get(level, palette.TEXT) if level != "ok" else palette.TEXT
         row.setStyleSheet(f"QFrame#notice_{key} {{ border: 1px solid {colour}; border-radius: 3px; }}")
         lay = QHBoxLayout(row)
-        lay.setContentsMargins(6, 2, 6, 2)
-        label = QLabel(text)
-        label.setWordWrap(True)
+        lay.setContentsMargins(6, 1, 2, 1)
+        lay.setSpacing(6)
+        label = ElidedLabel(text)  # one line; a longer text ends in "…" and is whole in the tooltip
         label.setStyleSheet(f"color: {colour}; font-weight: {'bold' if level == 'at' else 'normal'}; border: none")
-        label.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
         label.setAccessibleName(f"notice: {key}")
         lay.addWidget(label, 1)
         row.buttons = {}

@@ -352,7 +352,10 @@ class TargetPanel(QWidget):
         for c, w in want.items():
             self.table.setColumnWidth(c, max(w, hh.sectionSizeFromContents(c).width()))
         used = sum(self.table.columnWidth(c) for c in want)
-        self.table.setColumnWidth(COL_LABEL, max(LABEL_MIN, self.table.viewport().width() - used))
+        # room as if the vertical scroll bar were shown: opening a configuration must not push "move" out
+        bar = self.table.verticalScrollBar()
+        room = self.table.width() - 2 * self.table.frameWidth() - max(bar.sizeHint().width(), 12)
+        self.table.setColumnWidth(COL_LABEL, max(LABEL_MIN, room - used))
 
     def resizeEvent(self, ev):
         super().resizeEvent(ev)
