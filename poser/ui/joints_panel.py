@@ -88,49 +88,58 @@ class JointRow:
     """The widgets of one joint (kept together so tests and the panel can reach them)."""
 
     def __init__(self, panel: JointPanel, i: int):
-        st = panel.state
-        chain = st.chain
         self.i = i
-        unit = st.unit_of(i)
-        lo, hi = (float(v[i]) for v in st.limits_user)
-        self.lower, self.upper = lo, hi
-        name = printable(chain.names[i])
-        self.name = QLabel(name)
+        self.name = QLabel()
         self.name.setMinimumWidth(80)
         self.name.setStyleSheet("font-weight: bold")
-        short, tip = kind_words(chain.kinds[i], unit)
-        self.kind = QLabel(short)
-        self.kind.setToolTip(tip)
+        self.kind = QLabel()
         self.kind.setStyleSheet(f"color: {palette.MUTED}")
         self.slider = QSlider(Qt.Orientation.Horizontal)
         self.slider.setRange(0, SLIDER_STEPS)
         self.slider.setMinimumWidth(100)
-        self.slider.setAccessibleName(f"{name} slider")
-        self.slider.setToolTip(f"{name}: drag over the range {fmt(lo)} … {fmt(hi)} {unit}")
         self.spin = QDoubleSpinBox()
-        self.spin.setDecimals(DECIMALS.get(unit, 4))  # before the range: Qt rounds the range to the decimals
-        # wide enough for any value a person types (Qt drops a keystroke that would leave the range, so a narrow
-        # range turned a typed 456 into 45); beyond the limits the words and colours say so
-        bound = spin_bound(lo, hi)
-        self.spin.setRange(-bound, bound)
-        self.spin.setSuffix(f" {unit}")
         self.spin.setKeyboardTracking(False)  # typed digits apply on Enter or after a pause, not one by one
         self.spin.setAccelerated(True)
         self.spin.setCorrectionMode(QAbstractSpinBox.CorrectionMode.CorrectToNearestValue)
-        self.spin.setAccessibleName(f"{name} value in {unit}")
-        self.spin.setToolTip(f"{name} in {unit}: type a value and press Enter (or pause); Up/Down move it by the "
-                             "arrow step")
         self.spin.setMinimumWidth(110)
         self.spin_palette = QPalette(self.spin.palette())
         self.typing = False  # digits typed and not yet applied: nothing from elsewhere overwrites them
-        self.limits = QLabel(f"{fmt(lo)} … {fmt(hi)} {unit}")
-        self.limits.setToolTip(f"{name}: lower limit … upper limit, {unit}")
-        self.limits.setAccessibleName(f"{name} limits")
+        self.limits = QLabel()
         self.bar = MarginBar()
         self.words = QLabel("")
         self.words.setMinimumWidth(150)
-        self.unit = unit
         self.level = None
+        self.describe(panel.state)
+
+    def describe(self, st: PoseState) -> None:
+        """Name, type, unit and limits of joint ``i`` of the state's arm (again after an edit of the arm)."""
+        chain = st.chain
+        i = self.i
+        unit = st.unit_of(i)
+        lo, hi = (float(v[i]) for v in st.limits_user)
+        self.lower, self.upper = lo, hi
+        self.unit = unit
+        name = printable(chain.names[i])
+        self.name.setText(name)
+        short, tip = kind_words(chain.kinds[i], unit)
+        self.kind.setText(short)
+        self.kind.setToolTip(tip)
+        self.slider.setAccessibleName(f"{name} slider")
+        self.slider.setToolTip(f"{name}: drag over the range {fmt(lo)} … {fmt(hi)} {unit}")
+        with QSignalBlocker(self.spin):
+            self.spin.setDecimals(DECIMALS.get(unit, 4))  # before the range: Qt rounds the range to the decimals
+            # wide enough for any value a person types (Qt drops a keystroke that would leave the range, so a
+            # narrow range turned a typed 456 into 45); beyond the limits the words and colours say so
+            bound = spin_bound(lo, hi)
+            self.spin.setRange(-bound, bound)
+            self.spin.setSuffix(f" {unit}")
+        self.spin.setAccessibleName(f"{name} value in {unit}")
+        self.spin.setToolTip(f"{name} in {unit}: type a value and press Enter (or pause); Up/Down move it by the "
+                             "arrow step")
+        self.limits.setText(f"{fmt(lo)} … {fmt(hi)} {unit}")
+        self.limits.setToolTip(f"{name}: lower limit … upper limit, {unit}")
+        self.limits.setAccessibleName(f"{name} limits")
+        self.level = None  # restyle at the next refresh
 
     def slider_to_value(self, pos: int) -> float:
         return self.lower + (self.upper - self.lower) * pos / SLIDER_STEPS
@@ -226,15 +235,24 @@ class JointPanel(QWidget):
 
     # -- building -------------------------------------------------------------------
     def _build(self) -> None:
-        for row in self.rows:
+        """Rows for the state's arm: the rows there are take the new joints' names, units and limits (no widget
+        rebuilt for an edit of the arm), missing rows are made, surplus rows go."""
+        n = self.state.chain.n
+        old_n = len(self.rows)
+        for row in self.rows[n:]:
             for w in row.widgets:
+                self.grid.removeWidget(w)
                 w.setParent(None)
                 w.deleteLater()
-        self.rows = []
+        self.rows = self.rows[:n]
         self.pause.stop()
         self._typed_row = None
+        for row in self.rows:
+            row.typing = False
+            row.describe(self.state)
+        self.grid.setRowStretch(2 * old_n, 0)
         # two lines per joint: name | slider | value | limits, then type | margin bar | state in words
-        for i in range(self.state.chain.n):
+        for i in range(len(self.rows), n):
             row = JointRow(self, i)
             r = 2 * i
             self.grid.addWidget(row.name, r, 0)
@@ -252,7 +270,7 @@ class JointPanel(QWidget):
             row.spin.installEventFilter(self)
             self.rows.append(row)
         self.grid.setColumnStretch(1, 1)
-        self.grid.setRowStretch(2 * self.state.chain.n, 1)
+        self.grid.setRowStretch(2 * n, 1)
         prev = self.step_length_spin
         for row in self.rows:
             QWidget.setTabOrder(prev, row.slider)

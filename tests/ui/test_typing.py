@@ -87,3 +87,23 @@ def test_a_value_beyond_the_limits_is_typed_whole_not_cut_short(make_window, qtb
     QTest.keyClick(row.spin, Qt.Key.Key_Return)
     assert win.state.q_user[1] == pytest.approx(456.0)
     assert row.words.text() == "BEYOND upper limit by 316 deg"
+
+
+def test_an_edit_of_the_arm_updates_the_joint_rows_in_place(make_window):
+    """Editing a limit, a name or a unit keeps the row widgets (rebuilding 32 rows on every keystroke in the editor
+    took tens of milliseconds); another joint count adds or removes rows only."""
+    win = make_window()
+    rows = list(win.joints.rows)
+    spin = rows[2].spin
+    win.editor.set_cell(2, "max", "150")
+    win.editor.set_cell(2, "name", "J3 elbow (new)")
+    assert win.joints.rows == rows and win.joints.rows[2].spin is spin
+    assert rows[2].limits.text() == "-120 … 150 deg" and rows[2].name.text() == "J3 elbow (new)"
+    assert rows[2].upper == 150.0 and "150" in rows[2].slider.toolTip()
+    win.editor.table.selectRow(5)
+    win.editor.add_joint()
+    assert win.joints.rows[:6] == rows and len(win.joints.rows) == 7
+    win.editor.set_cell(6, "type", "prismatic")
+    assert win.joints.rows[6].unit == "mm" and win.joints.rows[6].spin.suffix() == " mm"
+    win.editor.remove_joint()
+    assert win.joints.rows == rows
