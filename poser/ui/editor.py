@@ -27,6 +27,7 @@ from PySide6.QtWidgets import (
     QLabel,
     QLineEdit,
     QPushButton,
+    QStyledItemDelegate,
     QTableWidgetItem,
     QVBoxLayout,
     QWidget,
@@ -138,6 +139,24 @@ EXACT = Qt.ItemDataRole.UserRole
 """Where a table cell keeps the exact number it shows rounded."""
 
 
+class TypeDelegate(QStyledItemDelegate):
+    """Edits the type column with a list of the two joint types (a cell widget per row cost a 32-joint arm
+    tens of milliseconds to load)."""
+
+    def createEditor(self, parent, option, index):
+        combo = QComboBox(parent)
+        combo.addItems(TYPES)
+        combo.activated.connect(lambda _i, c=combo: self.commitData.emit(c))
+        return combo
+
+    def setEditorData(self, editor, index):
+        editor.setCurrentText(index.data() or "revolute")
+        editor.showPopup()
+
+    def setModelData(self, editor, model, index):
+        model.setData(index, editor.currentText())
+
+
 class EditorPanel(QWidget):
     """Reads the arm from the state and writes a new, valid arm back; never writes an invalid one."""
 
@@ -146,6 +165,9 @@ class EditorPanel(QWidget):
         self.state = state
         self.problems: list = []
         self.bad_cells: dict = {}
+        self._painted: dict = {}  # (row, column) → fill shown
+        self._painted_tips: dict = {}
+        self._painted_rows = -1
         self.last_conversion: ArmSpec | None = None
         self.ask = Asker(self, True, [])  # the main window puts its own (which answers from a queue in tests)
         self._tables: list = []  # the loaded document's table of each row (keeps comments on save)
@@ -211,6 +233,8 @@ class EditorPanel(QWidget):
         hh.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
         self.table.verticalHeader().setDefaultSectionSize(26)
         self.table.setAccessibleName("arm rows")
+        self.type_delegate = TypeDelegate(self.table)
+        self.table.setItemDelegateForColumn(KEYS.index("type"), self.type_delegate)
         self.limits_note = QLabel()
         self.limits_note.setWordWrap(True)
         self.limits_note.setStyleSheet(f"color: {palette.MUTED}")
@@ -286,7 +310,8 @@ class EditorPanel(QWidget):
         else:
             a_tip = f"link length a(i), {L}: along x(i), from z(i−1) to z(i) (standard DH: after the joint)"
             alpha_tip = f"link twist alpha(i), {A}: about x(i), from z(i−1) to z(i) (standard DH: after the joint)"
-        tips = ["joint name (unique; kept exactly as typed)", "revolute (rotary: turns) or prismatic (linear: slides)",
+        tips = ["joint name (unique; kept exactly as typed)",
+                "revolute (rotary: turns) or prismatic (linear: slides); double-click or F2 to choose",
                 a_tip, alpha_tip, f"link offset d, {L}: along the joint axis", f"joint angle offset theta, {A}",
                 f"lower limit: {A} for revolute, {L} for prismatic joints",
                 f"upper limit: {A} for revolute, {L} for prismatic joints",
@@ -300,15 +325,9 @@ class EditorPanel(QWidget):
         with QSignalBlocker(self.table):
             self.table.insertRow(r)
             for c, key in enumerate(KEYS):
-                if key == "type":
-                    combo = QComboBox()
-                    combo.addItems(TYPES)
-                    combo.setCurrentText(j.type if j.type in TYPES else "revolute")
-                    combo.currentIndexChanged.connect(lambda *_: self.edited())
-                    self.table.setCellWidget(r, c, combo)
-                    continue
-                if key == "name":
-                    self.table.setItem(r, c, QTableWidgetItem(j.name))
+                if key in ("name", "type"):  # the type is a plain cell; TypeDelegate edits it with a list
+                    text = j.name if key == "name" else (j.type if j.type in TYPES else "revolute")
+                    self.table.setItem(r, c, QTableWidgetItem(text))
                     continue
                 value = getattr(j, key)
                 item = QTableWidgetItem(_num_text(value))
@@ -321,8 +340,6 @@ class EditorPanel(QWidget):
     # -- widgets → candidate arm ---------------------------------------------------------------
     def cell(self, row: int, key: str) -> str:
         c = KEYS.index(key)
-        if key == "type":
-            return self.table.cellWidget(row, c).currentText()
         item = self.table.item(row, c)
         return item.text() if item is not None else ""
 
@@ -337,11 +354,7 @@ class EditorPanel(QWidget):
 
     def set_cell(self, row: int, key: str, text: str) -> None:
         """Type ``text`` into a cell (as a user would); validation follows."""
-        c = KEYS.index(key)
-        if key == "type":
-            self.table.cellWidget(row, c).setCurrentText(text)
-        else:
-            self.table.item(row, c).setText(text)
+        self.table.item(row, KEYS.index(key)).setText(text)
 
     def candidate(self) -> ArmSpec:
         """The arm as the widgets describe it now (possibly invalid)."""
@@ -412,21 +425,31 @@ class EditorPanel(QWidget):
             elif path in self._fields():
                 bad_fields.setdefault(path, []).append(p.message)
         bad_rows = {r for r, _ in self.bad_cells}
+        fills = {}
+        for r in bad_rows:
+            for c in range(len(KEYS)):
+                fills[(r, c)] = BAD_CELL if (r, c) in self.bad_cells else BAD_ROW
+        # only the cells whose fill or message changes are touched (a 32-row table has 288 cells)
+        rows = self.table.rowCount()
+        full = rows != self._painted_rows
+        every = {(r, c) for r in range(rows) for c in range(len(KEYS))}
+        touched = every if full else set(fills) | set(self._painted)
         with QSignalBlocker(self.table):
-            for r in range(self.table.rowCount()):
-                for c in range(len(KEYS)):
-                    item = self.table.item(r, c)
-                    widget = self.table.cellWidget(r, c)
-                    messages = self.bad_cells.get((r, c))
-                    fill = BAD_CELL if messages else BAD_ROW if r in bad_rows else None
-                    if item is not None:
-                        item.setBackground(QColor(fill) if fill else QColor(0, 0, 0, 0))
-                        exact = item.data(EXACT)
-                        base_tip = _exact(exact) if exact is not None else ""
-                        item.setToolTip("\n".join(messages) if messages else base_tip)
-                    elif widget is not None:
-                        widget.setStyleSheet(f"background: {BAD_CELL}" if messages else "")
-                        widget.setToolTip("\n".join(messages) if messages else "")
+            for r, c in touched:
+                item = self.table.item(r, c)
+                if item is None:
+                    continue
+                fill = fills.get((r, c))
+                messages = self.bad_cells.get((r, c))
+                if not full and fill == self._painted.get((r, c)) and messages == self._painted_tips.get((r, c)):
+                    continue
+                item.setBackground(QColor(fill) if fill else QColor(0, 0, 0, 0))
+                exact = item.data(EXACT)
+                base_tip = _exact(exact) if exact is not None else ""
+                item.setToolTip("\n".join(messages) if messages else base_tip)
+        self._painted = fills
+        self._painted_tips = dict(self.bad_cells)
+        self._painted_rows = rows
         for path, w in self._fields().items():
             messages = bad_fields.get(path)
             w.setStyleSheet(f"background: {BAD_CELL}" if messages else "")

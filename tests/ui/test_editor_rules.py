@@ -138,3 +138,23 @@ def test_switching_convention_can_keep_the_numbers_and_says_so(make_window):
     win.answers.append("cancel")
     ed.convention.setCurrentText("standard")
     assert ed.convention.currentText() == "modified" and st.spec.convention == "modified"
+
+
+def test_the_type_is_chosen_from_a_list_in_the_cell(make_window, qtbot):
+    from PySide6.QtWidgets import QComboBox
+
+    win = make_window()
+    ed = win.editor
+    index = ed.table.model().index(5, KEYS.index("type"))
+    ed.table.setCurrentIndex(index)
+    ed.table.edit(index)
+    combo = ed.table.findChild(QComboBox)
+    assert combo is not None and [combo.itemText(k) for k in range(combo.count())] == ["revolute", "prismatic"]
+    combo.hidePopup()
+    combo.setCurrentText("prismatic")
+    combo.activated.emit(1)
+    ed.set_cell(5, "min", "0")
+    ed.set_cell(5, "max", "100")
+    ed.set_cell(5, "home", "")
+    assert ed.cell(5, "type") == "prismatic"
+    assert ed.problems == [] and win.state.chain.kinds[5] == "prismatic"
