@@ -3,24 +3,16 @@ refitted, the branches solved again for the new joints; the Joints dock shows ev
 
 from __future__ import annotations
 
-import shutil
-
 import numpy as np
 import pytest
 from PySide6.QtCore import QPoint
-from ui_common import ROOT, needs_ik
+from ui_common import DEMO, copy_demo, needs_ik
 
 from poser.ui.state import Target
 
 pytestmark = pytest.mark.gui
 
-DEMO = ROOT / "demo_arms"
 
-
-def _copy(name, tmp_path):
-    p = tmp_path / name
-    shutil.copy(DEMO / name, p)
-    return p
 
 
 @needs_ik
@@ -33,7 +25,7 @@ def test_opening_an_arm_in_metres_converts_a_target_in_millimetres(make_window, 
     st.changed.connect(fields.append)
     notices = []
     st.notice.connect(lambda level, text: notices.append(text))
-    boom = _copy("boom3.toml", tmp_path)
+    boom = copy_demo("boom3.toml", tmp_path)
     assert win.open_file(boom)
     assert st.chain.units.length == "m" and st.chain.n == 3
     np.testing.assert_allclose(st.target.xyz, [1.2, 0.0, 0.9])  # the same place: never 1200 m
@@ -74,7 +66,7 @@ def test_adding_and_removing_joints_with_a_target_set_keeps_every_panel_consiste
 
 def test_opening_an_arm_without_a_target_invents_none(make_window, tmp_path):
     win = make_window()
-    assert win.open_file(_copy("boom3.toml", tmp_path))
+    assert win.open_file(copy_demo("boom3.toml", tmp_path))
     assert win.state.target is None
     assert "state" not in win.notices.items
 
@@ -107,9 +99,9 @@ def _last_row_shown(win) -> bool:
 @pytest.mark.parametrize("first, then", [("quill4.toml", "lark7.toml"), ("planar3.toml", "wren6.toml"),
                                          ("quill4.toml", "heron6.toml")])
 def test_the_joints_dock_shows_every_joint_of_the_arm_opened(make_window, tmp_path, qtbot, first, then):
-    win = make_window(_copy(first, tmp_path))
+    win = make_window(copy_demo(first, tmp_path))
     qtbot.wait(50)
     assert _last_row_shown(win)
-    assert win.open_file(_copy(then, tmp_path))
+    assert win.open_file(copy_demo(then, tmp_path))
     qtbot.waitUntil(lambda: _last_row_shown(win), timeout=2000)
     assert len(win.joints.rows) == win.state.chain.n >= 6

@@ -3,14 +3,13 @@
 from __future__ import annotations
 
 import json
-import shutil
 import time
 
 import numpy as np
 import pytest
 from PySide6.QtCore import Qt
 from PySide6.QtTest import QTest
-from ui_common import ROOT, needs_ik
+from ui_common import copy_demo, needs_ik
 
 from poser import report
 from poser.cli import main as cli_main
@@ -18,13 +17,7 @@ from poser.ui.tables import COL_LABEL, COL_LIMITS, COL_MANIP, COL_MOVE, COL_NUMB
 
 pytestmark = [pytest.mark.gui, needs_ik]
 
-DEMO = ROOT / "demo_arms"
 
-
-def _copy(name, tmp_path):
-    p = tmp_path / name
-    shutil.copy(DEMO / name, p)
-    return p
 
 
 def cli_json(capsys, *argv):
@@ -47,7 +40,7 @@ def all_rows(model: BranchModel):
 
 
 def test_the_ninety_branch_target_is_one_model_grouped_by_configuration(make_window, tmp_path, record_property):
-    win = make_window(_copy("wren6.toml", tmp_path))
+    win = make_window(copy_demo("wren6.toml", tmp_path))
     panel = win.target
     assert isinstance(panel.table.model(), BranchModel)
     win.set_target_values([0, 0, 1500, 0, 0, 0])
@@ -75,7 +68,7 @@ def test_the_ninety_branch_target_is_one_model_grouped_by_configuration(make_win
 
 
 def test_every_row_hovers_and_selects_its_branch_children_too(make_window, tmp_path, qtbot):
-    win = make_window(_copy("wren6.toml", tmp_path))
+    win = make_window(copy_demo("wren6.toml", tmp_path))
     win.set_target_values([0, 0, 1500, 0, 0, 0])
     st, panel = win.state, win.target
     model = panel.model
@@ -105,7 +98,7 @@ def test_every_row_hovers_and_selects_its_branch_children_too(make_window, tmp_p
 
 def test_a_family_is_one_row(make_window, tmp_path):
     """Quill 4 with a position-only target leaves a joint free: each branch stands for a family."""
-    win = make_window(_copy("quill4.toml", tmp_path))
+    win = make_window(copy_demo("quill4.toml", tmp_path))
     win.set_target_values([300, 100, 200])
     st, model = win.state, win.target.model
     fams = [i for i, b in enumerate(st.branches) if b.family is not None]
@@ -140,7 +133,7 @@ def test_only_within_limits_is_a_state_option_the_list_follows(make_window, qtbo
 def test_the_list_shows_the_clis_numbers_and_copies_the_joints(make_window, tmp_path, capsys, qtbot):
     """Boom 3 mixes turns (rad) and a slide (m): joint values, manipulability, distance and largest move as
     ``poser ik`` gives them; degrees and metres are never added up."""
-    path = _copy("boom3.toml", tmp_path)
+    path = copy_demo("boom3.toml", tmp_path)
     win = make_window(path)
     st = win.state
     near = [0.0, 0.0, 0.1]
@@ -186,7 +179,7 @@ def test_the_list_shows_the_clis_numbers_and_copies_the_joints(make_window, tmp_
 
 
 def test_an_unreachable_target_has_one_set_of_figures_as_the_cli(make_window, tmp_path, capsys):
-    path = _copy("heron6.toml", tmp_path)
+    path = copy_demo("heron6.toml", tmp_path)
     win = make_window(path)
     win.set_target_values([5000, 0, 900])
     st = win.state

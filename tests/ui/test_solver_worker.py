@@ -6,13 +6,12 @@ in benchmarks/gui.py (``gui_stall_max_ms``).
 
 from __future__ import annotations
 
-import shutil
 import threading
 import time
 
 import numpy as np
 import pytest
-from ui_common import ROOT, needs_ik
+from ui_common import DEMO, copy_demo, needs_ik
 
 from poser import armfile
 from poser.ui import ikbridge, solver
@@ -20,13 +19,7 @@ from poser.ui.state import Target
 
 pytestmark = [pytest.mark.gui, needs_ik]
 
-DEMO = ROOT / "demo_arms"
 
-
-def _copy(name, tmp_path):
-    p = tmp_path / name
-    shutil.copy(DEMO / name, p)
-    return p
 
 
 def test_the_solve_runs_off_the_gui_thread_and_the_window_stays_responsive(make_window, qtbot, monkeypatch):
@@ -95,7 +88,7 @@ def test_a_result_for_an_older_arm_is_dropped(make_window, qtbot, tmp_path, monk
     st = win.state
     st.set_target(Target(np.array([500.0, 0.0, 600.0])))
     qtbot.waitUntil(lambda: win.solver._running is not None, timeout=3000)
-    win.open_file(_copy("quill4.toml", tmp_path))  # four joints now; the six-joint result must not land
+    win.open_file(copy_demo("quill4.toml", tmp_path))  # four joints now; the six-joint result must not land
     gate.set()
     assert win.solver.wait(10.0)
     assert win.solver.dropped >= 1
@@ -161,7 +154,7 @@ def test_compute_gives_the_worker_products_of_every_branch():
 def _stall(make_window, name, tmp_path, record_property):
     from poser.ui.heartbeat import TARGET_SESSIONS, typing_session
 
-    win = make_window(_copy(f"{name}.toml", tmp_path))
+    win = make_window(copy_demo(f"{name}.toml", tmp_path))
     win.render_now()
     t0 = time.perf_counter()
     beat = typing_session(win, TARGET_SESSIONS[name])
