@@ -2,13 +2,21 @@
 
 Every edit is validated at once with the arm-file loader's own checks
 (:func:`poser.armfile.validate`); a valid arm goes to the shared state (the 3D
-view follows live), an invalid one is refused with the loader's messages and
-the arm in the state stays as it was.
+view follows live), an invalid one is refused with the loader's messages, the
+cell (or field) at fault is highlighted, the state records the problems
+(:meth:`PoseState.set_unapplied`: the window is dirty and Save refuses) and
+the arm in the state stays as it was.  Names are kept exactly as typed.
+
+Switching the DH convention asks whether to convert the table
+(:func:`poser.armfile.convert_convention`: the same physical arm and tool
+pose, other numbers) or keep the numbers (read in the other convention: another
+arm); the column headers follow (``a(i−1)``, ``alpha(i−1)`` in the modified
+convention).
 """
 
 from __future__ import annotations
 
-from PySide6.QtCore import QSignalBlocker, Qt
+from PySide6.QtCore import QItemSelectionModel, QSignalBlocker, Qt
 from PySide6.QtGui import QColor
 from PySide6.QtWidgets import (
     QAbstractItemView,
@@ -19,21 +27,69 @@ from PySide6.QtWidgets import (
     QLabel,
     QLineEdit,
     QPushButton,
+    QStyledItemDelegate,
     QTableWidgetItem,
     QVBoxLayout,
     QWidget,
 )
 
-from poser.armfile import ArmFileError, ArmSpec, JointSpec, validate
+from poser.armfile import ArmFileError, ArmSpec, JointSpec, Problem, convert_convention, validate
 from poser.core.dh import CONVENTIONS
 from poser.core.errors import PoserError
 from poser.core.units import ANGLE_UNITS, LENGTH_UNITS, Units
+from poser.text import name_key
 from poser.ui import palette
+from poser.ui.questions import Asker
 from poser.ui.state import PoseState
 from poser.ui.tables import CompactTable
 
 KEYS = ("name", "type", "a", "alpha", "d", "theta", "min", "max", "home")
 TYPES = ("revolute", "prismatic")
+HOME_RULE = "blank home: 0, or the middle of the range when 0 is outside it"
+"""What a blank home cell means (the arm file's rule, docs/arm-file.md)."""
+BAD_CELL = "#F2B8B8"
+"""Fill of the cell (or field) at fault."""
+BAD_ROW = "#FBE9E9"
+"""Faint fill of the other cells of its row."""
+CONVENTION_CHOICES = (
+    ("convert", "&Convert the table (same arm)"),
+    ("keep", "&Keep the numbers (another arm)"),
+    ("cancel", "Cancel"),
+)
+
+
+def new_joint_name(names, position: int) -> str:
+    """A name for a joint added at ``position`` (1-based): ``"J3"``, or ``"J3 new"``/``"J3 new 2"`` when taken
+    (compared as :func:`poser.text.name_key` compares names)."""
+    taken = {name_key(n) for n in names}
+    base = f"J{position}"
+    if name_key(base) not in taken:
+        return base
+    k = 1
+    while True:
+        cand = f"{base} new" if k == 1 else f"{base} new {k}"
+        if name_key(cand) not in taken:
+            return cand
+        k += 1
+
+
+def find_problems(spec: ArmSpec, file: str) -> list[tuple[Problem, tuple | None]]:
+    """Every problem of ``spec`` with the key path it is about (``("joint", 2, "min")``, ``("name",)``, …).
+
+    :func:`poser.armfile.validate` reports the path through its ``lines`` callback; the path is kept here
+    (and no line number, an edited arm has none).
+    """
+    paths: list = []
+
+    def where(path):
+        paths.append(path)
+        return len(paths)  # a token, read back below
+
+    out = []
+    for p in validate(spec, file, lines=where):
+        path = paths[p.line - 1] if p.line else None
+        out.append((Problem(p.message, p.file, None, p.joint), path))
+    return out
 
 
 def parse_number(text: str, blank):
@@ -83,6 +139,24 @@ EXACT = Qt.ItemDataRole.UserRole
 """Where a table cell keeps the exact number it shows rounded."""
 
 
+class TypeDelegate(QStyledItemDelegate):
+    """Edits the type column with a list of the two joint types (a cell widget per row cost a 32-joint arm
+    tens of milliseconds to load)."""
+
+    def createEditor(self, parent, option, index):
+        combo = QComboBox(parent)
+        combo.addItems(TYPES)
+        combo.activated.connect(lambda _i, c=combo: self.commitData.emit(c))
+        return combo
+
+    def setEditorData(self, editor, index):
+        editor.setCurrentText(index.data() or "revolute")
+        editor.showPopup()
+
+    def setModelData(self, editor, model, index):
+        model.setData(index, editor.currentText())
+
+
 class EditorPanel(QWidget):
     """Reads the arm from the state and writes a new, valid arm back; never writes an invalid one."""
 
@@ -90,6 +164,12 @@ class EditorPanel(QWidget):
         super().__init__(parent)
         self.state = state
         self.problems: list = []
+        self.bad_cells: dict = {}
+        self._painted: dict = {}  # (row, column) → fill shown
+        self._painted_tips: dict = {}
+        self._painted_rows = -1
+        self.last_conversion: ArmSpec | None = None
+        self.ask = Asker(self, True, [])  # the main window puts its own (which answers from a queue in tests)
         self._tables: list = []  # the loaded document's table of each row (keeps comments on save)
         self._applied: list = []  # the tables of the arm last handed to the state, in its joint order
         self._loading = False
@@ -97,6 +177,8 @@ class EditorPanel(QWidget):
         lay.setContentsMargins(4, 4, 4, 4)
         form = QFormLayout()
         self.name = QLineEdit()
+        self.name.setAccessibleName("arm name")
+        self.name.setToolTip("the arm's name, kept exactly as typed")
         self.convention = QComboBox()
         self.convention.addItems(list(CONVENTIONS))
         self.convention.setToolTip("standard (distal) or modified (proximal) DH parameters")
@@ -142,7 +224,6 @@ class EditorPanel(QWidget):
         self.message.setWordWrap(True)
         self.message.setAccessibleName("editor check result")
         self.message.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
-        lay.addWidget(self.message)
 
         self.table = CompactTable(0, len(KEYS))
         self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
@@ -152,11 +233,14 @@ class EditorPanel(QWidget):
         hh.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
         self.table.verticalHeader().setDefaultSectionSize(26)
         self.table.setAccessibleName("arm rows")
+        self.type_delegate = TypeDelegate(self.table)
+        self.table.setItemDelegateForColumn(KEYS.index("type"), self.type_delegate)
         self.limits_note = QLabel()
         self.limits_note.setWordWrap(True)
         self.limits_note.setStyleSheet(f"color: {palette.MUTED}")
         lay.addWidget(self.table, 1)
         lay.addWidget(self.limits_note)
+        lay.addWidget(self.message)  # below the rows: a message growing to more lines never moves a row
         buttons = QHBoxLayout()
         self.add_button = QPushButton("Add joint")
         self.remove_button = QPushButton("Remove joint")
@@ -175,14 +259,21 @@ class EditorPanel(QWidget):
         self.name.textEdited.connect(lambda *_: self.edited())
         for w in (self.base_xyz, self.base_rpy, self.tool_xyz, self.tool_rpy):
             w.textEdited.connect(lambda *_: self.edited())
-        for c in (self.convention, self.length, self.angle):
+        for c in (self.length, self.angle):
             c.currentIndexChanged.connect(lambda *_: self.edited())
+        self.convention.currentIndexChanged.connect(lambda *_: self._convention_changed())
         state.changed.connect(self._on_state)
         self.load_from_state()
 
     # -- state → widgets ------------------------------------------------------------------
     def load_from_state(self) -> None:
-        spec = self.state.spec
+        self._load_spec(self.state.spec)
+        self._applied = list(self._tables)
+        self._show_problems([])
+        self.state.set_unapplied([], writer=self)
+
+    def _load_spec(self, spec: ArmSpec) -> None:
+        """Fill the widgets from ``spec`` (nothing is checked or applied)."""
         self._loading = True
         try:
             blockers = [QSignalBlocker(w) for w in (self.table, self.name, self.convention, self.length, self.angle,
@@ -199,43 +290,44 @@ class EditorPanel(QWidget):
             self._tables = []
             for j in spec.joints:
                 self._append_row(j)
-            self._applied = list(self._tables)
             del blockers
         finally:
             self._loading = False
         self._headers()
-        self._show_problems([])
 
     def _headers(self) -> None:
         L, A = self.length.currentText(), self.angle.currentText()
+        modified = self.convention.currentText() == "modified"
+        a, alpha = ("a(i−1)", "alpha(i−1)") if modified else ("a", "alpha")
         self.table.setHorizontalHeaderLabels(
-            ["name", "type", f"a ({L})", f"alpha ({A})", f"d ({L})", f"theta ({A})", "min", "max", "home"]
+            ["name", "type", f"{a} ({L})", f"{alpha} ({A})", f"d ({L})", f"theta ({A})", "min", "max", "home"]
         )
         for lab, text in zip(self.place_labels, (f"xyz ({L})", f"rpy ({A})", f"xyz ({L})", f"rpy ({A})")):
             lab.setText(text)
-        tips = ["joint name (unique)", "revolute (rotary: turns) or prismatic (linear: slides)", f"link length, {L}",
-                f"link twist, {A}", f"link offset, {L}", f"joint angle offset, {A}",
+        if modified:
+            a_tip = f"link length a(i−1), {L}: along x(i−1), from z(i−1) to z(i) (modified DH: before the joint)"
+            alpha_tip = f"link twist alpha(i−1), {A}: about x(i−1), from z(i−1) to z(i) (modified DH: before the joint)"
+        else:
+            a_tip = f"link length a(i), {L}: along x(i), from z(i−1) to z(i) (standard DH: after the joint)"
+            alpha_tip = f"link twist alpha(i), {A}: about x(i), from z(i−1) to z(i) (standard DH: after the joint)"
+        tips = ["joint name (unique; kept exactly as typed)",
+                "revolute (rotary: turns) or prismatic (linear: slides); double-click or F2 to choose",
+                a_tip, alpha_tip, f"link offset d, {L}: along the joint axis", f"joint angle offset theta, {A}",
                 f"lower limit: {A} for revolute, {L} for prismatic joints",
                 f"upper limit: {A} for revolute, {L} for prismatic joints",
-                "home value (blank: 0, or mid-range when 0 is outside the limits)"]
+                f"home value ({HOME_RULE})"]
         for c, tip in enumerate(tips):
             self.table.horizontalHeaderItem(c).setToolTip(tip)
-        self.limits_note.setText(f"min, max, home: {A} for revolute, {L} for prismatic joints; blank home: 0")
+        self.limits_note.setText(f"min, max, home: {A} for revolute, {L} for prismatic joints; {HOME_RULE}.")
 
     def _append_row(self, j: JointSpec, at: int | None = None) -> None:
         r = self.table.rowCount() if at is None else at
         with QSignalBlocker(self.table):
             self.table.insertRow(r)
             for c, key in enumerate(KEYS):
-                if key == "type":
-                    combo = QComboBox()
-                    combo.addItems(TYPES)
-                    combo.setCurrentText(j.type if j.type in TYPES else "revolute")
-                    combo.currentIndexChanged.connect(lambda *_: self.edited())
-                    self.table.setCellWidget(r, c, combo)
-                    continue
-                if key == "name":
-                    self.table.setItem(r, c, QTableWidgetItem(j.name))
+                if key in ("name", "type"):  # the type is a plain cell; TypeDelegate edits it with a list
+                    text = j.name if key == "name" else (j.type if j.type in TYPES else "revolute")
+                    self.table.setItem(r, c, QTableWidgetItem(text))
                     continue
                 value = getattr(j, key)
                 item = QTableWidgetItem(_num_text(value))
@@ -248,8 +340,6 @@ class EditorPanel(QWidget):
     # -- widgets → candidate arm ---------------------------------------------------------------
     def cell(self, row: int, key: str) -> str:
         c = KEYS.index(key)
-        if key == "type":
-            return self.table.cellWidget(row, c).currentText()
         item = self.table.item(row, c)
         return item.text() if item is not None else ""
 
@@ -264,11 +354,7 @@ class EditorPanel(QWidget):
 
     def set_cell(self, row: int, key: str, text: str) -> None:
         """Type ``text`` into a cell (as a user would); validation follows."""
-        c = KEYS.index(key)
-        if key == "type":
-            self.table.cellWidget(row, c).setCurrentText(text)
-        else:
-            self.table.item(row, c).setText(text)
+        self.table.item(row, KEYS.index(key)).setText(text)
 
     def candidate(self) -> ArmSpec:
         """The arm as the widgets describe it now (possibly invalid)."""
@@ -287,7 +373,7 @@ class EditorPanel(QWidget):
             for key in KEYS:
                 text = self.cell(r, key)
                 if key in ("name", "type"):
-                    vals[key] = text.strip() if key == "name" else text
+                    vals[key] = text  # exactly as typed: the file layer says what is wrong with a name
                 else:
                     vals[key] = self._number(r, key, None if key in ("min", "max", "home") else 0.0)
             joints.append(JointSpec(**vals, _table=self._tables[r] if r < len(self._tables) else None))
@@ -301,42 +387,151 @@ class EditorPanel(QWidget):
         self._headers()
         spec = self.candidate()
         file = self.state.path.name if self.state.path else "<arm>"
-        problems = validate(spec, file)
-        if not problems:
+        found = find_problems(spec, file)
+        if not found:
             try:
                 self.state.set_arm(spec, dirty=True, writer=self)
                 self._applied = [j._table for j in spec.joints]
             except (ArmFileError, PoserError, ValueError) as exc:
-                problems = getattr(exc, "problems", None) or [str(exc)]
-        self._show_problems(problems)
-        return not problems
+                found = [(p, None) for p in (getattr(exc, "problems", None) or [Problem(str(exc), file)])]
+        self._show_problems(found)
+        self.state.set_unapplied([p for p, _ in found], writer=self)
+        return not found
 
-    def _show_problems(self, problems) -> None:
-        self.problems = list(problems)
-        bad_rows = set()
-        names = [self.cell(r, "name").strip() for r in range(self.table.rowCount())]
-        for p in self.problems:
-            j = getattr(p, "joint", None)
-            if j is None:
-                continue
-            if j in names:
-                bad_rows.add(names.index(j))
-            elif j.startswith("#") and j[1:].isdigit():
-                bad_rows.add(int(j[1:]) - 1)
+    def _fields(self) -> dict:
+        return {("name",): self.name, ("base", "xyz"): self.base_xyz, ("base", "rpy"): self.base_rpy,
+                ("tool", "xyz"): self.tool_xyz, ("tool", "rpy"): self.tool_rpy}
+
+    def _cell_of(self, problem, path) -> tuple[int, int] | None:
+        """(row, column) of the table cell a problem is about, or None."""
+        if path and path[0] == "joint" and len(path) >= 2 and isinstance(path[1], int):
+            row = path[1]
+            key = path[2] if len(path) >= 3 else problem.message.split(" ", 1)[0]  # "min is missing; …"
+            return row, (KEYS.index(key) if key in KEYS else 0)
+        if problem.joint is not None and problem.joint.startswith("#") and problem.joint[1:].isdigit():
+            return int(problem.joint[1:]) - 1, 0
+        return None
+
+    def _show_problems(self, found) -> None:
+        """Show ``found`` ((problem, path) pairs): the cell or field at fault filled, its row faintly, the
+        messages below the fields."""
+        self.problems = [p for p, _ in found]
+        self.bad_cells: dict = {}
+        bad_fields = {}
+        for p, path in found:
+            cell = self._cell_of(p, path)
+            if cell is not None:
+                self.bad_cells.setdefault(cell, []).append(p.message)
+            elif path in self._fields():
+                bad_fields.setdefault(path, []).append(p.message)
+        bad_rows = {r for r, _ in self.bad_cells}
+        fills = {}
+        for r in bad_rows:
+            for c in range(len(KEYS)):
+                fills[(r, c)] = BAD_CELL if (r, c) in self.bad_cells else BAD_ROW
+        # only the cells whose fill or message changes are touched (a 32-row table has 288 cells)
+        rows = self.table.rowCount()
+        full = rows != self._painted_rows
+        every = {(r, c) for r in range(rows) for c in range(len(KEYS))}
+        touched = every if full else set(fills) | set(self._painted)
         with QSignalBlocker(self.table):
-            for r in range(self.table.rowCount()):
-                for c in range(len(KEYS)):
-                    item = self.table.item(r, c)
-                    if item is not None:
-                        item.setBackground(QColor("#F6D5D5") if r in bad_rows else QColor(0, 0, 0, 0))
+            for r, c in touched:
+                item = self.table.item(r, c)
+                if item is None:
+                    continue
+                fill = fills.get((r, c))
+                messages = self.bad_cells.get((r, c))
+                if not full and fill == self._painted.get((r, c)) and messages == self._painted_tips.get((r, c)):
+                    continue
+                item.setBackground(QColor(fill) if fill else QColor(0, 0, 0, 0))
+                exact = item.data(EXACT)
+                base_tip = _exact(exact) if exact is not None else ""
+                item.setToolTip("\n".join(messages) if messages else base_tip)
+        self._painted = fills
+        self._painted_tips = dict(self.bad_cells)
+        self._painted_rows = rows
+        for path, w in self._fields().items():
+            messages = bad_fields.get(path)
+            w.setStyleSheet(f"background: {BAD_CELL}" if messages else "")
+            if messages:
+                w.setToolTip("\n".join(messages))
+            elif w is not self.name:
+                w.setToolTip(w.accessibleName() + ": three numbers separated by commas")
+            else:
+                w.setToolTip("the arm's name, kept exactly as typed")
         if self.problems:
-            text = "Not applied — the arm stays as it was until this is fixed:\n" + "\n".join(
-                f"• {p}" for p in self.problems)
+            text = "Not applied — the arm stays as it was until this is fixed (Save refuses meanwhile):\n" + \
+                "\n".join(f"• {p}" for p in self.problems)
             self.message.setStyleSheet(f"color: {palette.AT}")
         else:
             text = "The arm is valid; the view shows it."
             self.message.setStyleSheet(f"color: {palette.OK}")
         self.message.setText(text)
+
+    def first_problem_widget(self):
+        """The cell (as the table, with it current) or field of the first problem, focused; None when none."""
+        for (r, c) in self.bad_cells:
+            self.table.clearSelection()  # a selected row would hide the cell's fill
+            item = self.table.item(r, c)
+            self.table.setFocus()
+            if item is not None:
+                self.table.selectionModel().setCurrentIndex(
+                    self.table.indexFromItem(item), QItemSelectionModel.SelectionFlag.NoUpdate)
+                self.table.editItem(item)  # ready to type the fix
+            else:
+                self.table.setCurrentCell(r, c)
+            return self.table
+        for w in self._fields().values():
+            if w.styleSheet():
+                w.setFocus()
+                return w
+        return None
+
+    # -- convention ----------------------------------------------------------------------------------------
+    def _convention_changed(self) -> None:
+        """Ask whether to convert the table to the new convention or to read its numbers in it."""
+        if self._loading:
+            return
+        new = self.convention.currentText()
+        old = "modified" if new == "standard" else "standard"
+        spec = self.candidate()
+        spec.convention = old
+        file = self.state.path.name if self.state.path else "<arm>"
+        valid = not validate(spec, file)
+        if valid:
+            choice = self.ask(
+                "Switch DH convention",
+                f"Convert the table from the {old} to the {new} convention?",
+                "Convert: the rows' a and alpha move by one row (and into the base or tool), so the arm and its "
+                "tool pose stay the same for every joint value.\nKeep the numbers: the same numbers are read in "
+                f"the {new} convention — that describes another arm.",
+                CONVENTION_CHOICES, "convert")
+        else:
+            choice = self.ask(
+                "Switch DH convention",
+                f"The table cannot be converted while it has a problem; its numbers will be read in the {new} "
+                "convention (another arm).",
+                "Fix the problem first to convert instead.",
+                (("keep", "&Keep the numbers"), ("cancel", "Cancel")), "cancel")
+        if choice == "cancel":
+            with QSignalBlocker(self.convention):
+                self.convention.setCurrentText(old)
+            self._headers()
+            return
+        if choice == "convert":
+            converted = convert_convention(spec, new)
+            self._load_spec(converted)
+            self.last_conversion = converted
+            self.edited()
+            if not self.problems:
+                self.message.setText(f"Converted to the {new} convention: the same arm and tool pose "
+                                     "(a and alpha moved by one row; see base and tool).")
+            return
+        self.edited()
+        if not self.problems:
+            self.message.setText(f"The numbers are now read in the {new} convention: this is another arm "
+                                 "(switch back to get the old one).")
+            self.message.setStyleSheet(f"color: {palette.NEAR}")
 
     # -- row operations -------------------------------------------------------------------------
     def _selected_row(self) -> int:
@@ -346,13 +541,10 @@ class EditorPanel(QWidget):
     def add_joint(self) -> None:
         r = self._selected_row()
         at = self.table.rowCount() if r < 0 else r + 1
-        names = {self.cell(k, "name") for k in range(self.table.rowCount())}
-        k = self.table.rowCount() + 1
-        while f"J{k}" in names:
-            k += 1
+        names = [self.cell(k, "name") for k in range(self.table.rowCount())]
         angle = self.angle.currentText()
         lim = 180.0 if angle == "deg" else 3.14159
-        self._append_row(JointSpec(name=f"J{k}", type="revolute", min=-lim, max=lim), at)
+        self._append_row(JointSpec(name=new_joint_name(names, at + 1), type="revolute", min=-lim, max=lim), at)
         self.table.selectRow(at)
         self.edited()
 
@@ -383,7 +575,7 @@ class EditorPanel(QWidget):
         self.edited()
 
     def _on_state(self, field: str) -> None:
-        if field == "arm" and self.state.writer is not self:
+        if field == "spec" and self.state.writer is not self:  # opened, reloaded, restored: not our edit
             self.load_from_state()
         elif field == "document" and self.state.writer is not self:  # a save (not one of our own edits)
             self._follow_saved_tables()

@@ -18,6 +18,7 @@ from PySide6.QtWidgets import (
 )
 
 from poser.core.transforms import as_xyz_rpy
+from poser.report import printable
 from poser.ui.geometry import format_matrix
 from poser.ui.state import PoseState
 from poser.ui.words import fmt
@@ -146,7 +147,7 @@ class FramesPanel(QWidget):
         self.link_combo.blockSignals(True)
         self.link_combo.clear()
         for i, n in enumerate(names, start=1):
-            self.link_combo.addItem(f"{i}: {n}")
+            self.link_combo.addItem(f"{i}: {printable(n)}")
         self.link_combo.setCurrentIndex(min(max(keep, 0), len(names) - 1))
         self.link_combo.blockSignals(False)
         self._refresh()

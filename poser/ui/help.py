@@ -24,12 +24,21 @@ SECTIONS = [
      "<i>Trail</i> draws the tool point's path; <i>Ghosts</i> shows IK branches as see-through arms. "
      "Mouse: left-drag orbits, middle-drag (or Ctrl + left-drag) pans, the wheel zooms. Keys in the view: "
      "F front, S side, T top, I isometric, A fit the arm."),
+    ("Mounting and 'up'",
+     "'Up' is the arm's base frame z axis: away from the surface the arm is mounted on. For a floor-mounted arm "
+     "that is the world's up; for an arm on a wall or hanging from a ceiling (a base turned by the arm file's "
+     "[base] rpy) it points out of the wall or down from the ceiling, and 'shoulder front', 'elbow up' and the "
+     "mounting plane are meant in that frame. The mounting plane is the base frame's x-y plane: when a point of "
+     "the arm or tool goes below it, the status bar says so in red (BELOW THE MOUNTING PLANE) — a real arm would "
+     "hit its floor, wall or ceiling there."),
     ("Joints",
      "One row per joint: name, a slider over the joint's range, the value in the arm's units and the limits; "
      "under the name the joint's type and unit (<i>rotary joint, deg</i>: a revolute joint that turns; "
      "<i>linear joint, mm</i>: a prismatic joint that slides), then a bar of the range and the joint's state "
      "in words. The bar, the value box and the words turn amber within the warning margin (<i>Warn within</i>, "
-     "default 5 % of the range) and red at or beyond a limit. Arrow keys move the focused joint by the "
+     "default 5 % of the range) and red at or beyond a limit. A value box keeps the digits you type (4 decimals "
+     "in deg, mm; 5 in in; 6 in m, rad) and moves the joint when you press Enter, leave the box or pause typing — "
+     "never through the partial numbers on the way. Arrow keys move the focused joint by the "
      "<i>Arrow step</i> (Shift or Page Up/Down: ten steps); rotary joints take the step in the arm's angle "
      "unit, linear joints their own step in its length unit. <i>Home</i> (Ctrl+H) and <i>Zero</i> (Ctrl+0) "
      "set every joint at once."),
@@ -40,33 +49,69 @@ SECTIONS = [
      "arm's length unit."),
     ("Target",
      "Type a tool pose: xyz and an orientation as roll-pitch-yaw, axis–angle or quaternion (w, x, y, z), or "
-     "position only. Poser solves as you type and lists every branch: its label; <i>limits</i>: yes, or NO "
-     "with the joint furthest beyond a limit; <i>manip.</i>: its manipulability; and the largest single joint "
-     "move from the present pose. Hover a branch to see its ghost and, under the list, everything about it "
-     "(every violation, the condition number, which joint moves most); select it and press <i>Apply branch</i> "
-     "(or Enter, or double-click) to move the arm there. An unreachable target is explained: the closest "
-     "approach, how far it is and the limit that blocks it."),
+     "position only. Poser solves in the background as you type (the window never waits for it; 'Solving…' "
+     "shows meanwhile) and lists every branch, with the same numbers as <tt>poser ik</tt>: the branch number "
+     "(the ghost's label too), its configuration and under it every joint's value; <i>limits</i>: yes, or NO "
+     "with the joint furthest beyond a limit; <i>manip.</i>: its manipulability (unit in the header) and "
+     "whether it is singular; <i>move</i>: the largest single joint move from the present pose (turns and "
+     "slides are given apart on an arm with both). The branches of one configuration — its <i>turn variants</i> "
+     "(the same configuration with whole extra turns of a joint) and any other solution found for it — are "
+     "grouped under the best of them: '+8' under its number says eight more; open the row (Right arrow, or "
+     "click the triangle) to list them. A <i>family</i> — a "
+     "target that leaves a joint, the tool's turn or its orientation free, or a redundant arm's self-motion — "
+     "is one row marked '· family'; the line below the list says what is free and over which range it stays "
+     "within limits. <i>Only within limits</i> lists (and draws as ghosts) only the branches that reach with "
+     "every joint inside its limits. Hover a branch to see its ghost and, under the list, everything about it "
+     "(every violation, the condition number, the distance from the pose it was solved at, the joint values); "
+     "select it and press <i>Apply branch</i> (or Enter, or double-click) to move the arm there; <i>Copy "
+     "joints</i> (Ctrl+C) copies its joint values as one line for <tt>poser fk --joints</tt>. An unreachable "
+     "target is explained with one set of figures: the <i>closest approach</i> within limits (how far it misses "
+     "the position, and the orientation), and the <i>nearest reachable point</i> — the tool pose of that closest "
+     "approach; type it back in and it is reached."),
     ("Manipulability and condition number",
-     "Both say how far the pose is from a singularity, where the tool cannot move in some direction however "
-     "the joints turn. Poser divides every length in the Jacobian by the arm's size (the sum of its link "
-     "lengths and offsets), so both figures have no unit and read the same in mm, m or in. The "
-     "<i>manipulability</i> (Yoshikawa's measure, normalised) is 0 at a singularity and larger the more "
-     "freely the tool can move; compare it between poses of one arm. The <i>condition number</i> is 1 at "
-     "best and grows without bound towards a singularity; above 80 Poser warns in the status bar and in the "
-     "branch list. The status bar's tooltip also gives the raw manipulability in the arm's own units."),
+     "Both say how far the pose is from a singularity, where the tool cannot move in some direction however the "
+     "joints turn. The <i>manipulability</i> (Yoshikawa's measure: the product of the Jacobian's singular values "
+     "over the directions the arm controls) is shown with its unit, which depends on the arm — mm³ for the demo arm "
+     "Heron 6 (six rotary joints, lengths in mm), m² for Boom 3 (two rotary joints and a slide, in m); the column "
+     "header and the tooltips name it. It is 0 at a singularity and larger the more freely the tool can move; "
+     "compare it between poses of the same arm only. The <i>condition number</i> is the figure without a unit: Poser"
+     " divides every length in the Jacobian by the arm's size, so it reads the same in mm, m or in. It is 1 at best "
+     "and grows without bound towards a singularity (∞ at one); above 80 Poser warns in the status bar and in the "
+     "branch list, and names the kind of singularity (wrist axes aligned, wrist centre on the base axis, arm "
+     "stretched out or folded back) with the joints involved."),
     ("Arm editor",
      "The arm's rows (DH parameters a, alpha, d, theta, limits min/max and home) with its name, units, "
-     "convention, base and tool. Every edit is checked at once with the arm-file loader's own checks; an "
-     "invalid edit is refused with the loader's message and the arm stays as it was. File ▸ Open, Save "
-     "(Ctrl+S), Save As; saves are atomic and keep your comments. A recovery copy of unsaved edits is kept so a "
-     "crash loses nothing; Poser offers it the next time you open the same file."),
+     "convention, base and tool. In the modified convention the columns read a(i−1) and alpha(i−1): they "
+     "belong before the joint. Every edit is checked at once with the arm-file loader's own checks; an "
+     "invalid edit is refused with the loader's message, the cell at fault is filled red (its row faintly), "
+     "and the arm stays as it was — the window counts as unsaved, and Save refuses until it is fixed (it offers "
+     "to take you to the problem, or to save the last valid arm to another file). Names are kept exactly as "
+     "typed; a name of only invisible characters, or one that differs from another only by spaces, invisible "
+     "characters or Unicode form, is refused. A new joint is named by its position (J3 for the third). A blank "
+     "home means 0, or the middle of the range when 0 is outside it. Switching the DH convention asks: "
+     "<i>convert the table</i> (the same physical arm and tool pose, other numbers) or <i>keep the numbers</i> "
+     "(read in the other convention: another arm)."),
+    ("Saving",
+     "File ▸ Open, Save (Ctrl+S), Save As. Save writes exactly what the editor shows and keeps your comments "
+     "with their joints. Before writing, Poser checks that the file is still the one it loaded (time, size and "
+     "content): if another program changed it, Poser asks — reload it, overwrite it, or save as another file. "
+     "While the file is open, Poser watches it and offers (in a bar under the menu, without interrupting you) to "
+     "reload it when another program changes it. A read-only file is replaced only when you say so (it stays "
+     "read-only); saving through a symbolic link writes the file it points to (the link stays); a file with "
+     "several hard links is rewritten in place, so every name sees the new arm. Every applied edit is also kept "
+     "in a recovery copy, written in the background, so a crash loses nothing: Poser offers it the next time you "
+     "open the same file. If the recovery copy cannot be written, a red notice says so until it can — your "
+     "unsaved edits are then only in the window."),
     ("Status bar",
-     "The singularity verdict with the pose's condition number and manipulability, the joints near or at "
-     "limits (worst first), the arm's name, units and file, and how the 3D view is drawn (or why the 2D "
-     "three-view is shown). A text too long for the bar ends in … ; hover it to read it whole."),
+     "The singularity verdict with the pose's condition number and manipulability, a warning when a point of the "
+     "arm or tool is below the mounting plane, the joints near or at limits (worst first), the arm's name, units "
+     "and file, and how the 3D view is drawn (or why the 2D three-view is shown). A text too long for the bar "
+     "ends in … ; hover it to read it whole."),
     ("Keys",
      "Ctrl+1 … Ctrl+5 go to the 3D view, Joints, Frames, Target and Arm editor; Ctrl+O open, Ctrl+S save, "
-     "Ctrl+Shift+S save as, Ctrl+Q quit, F1 this guide. Tab moves through every control."),
+     "Ctrl+Shift+S save as, Ctrl+Q quit, F1 this guide. In the branch list: Up/Down pick a branch, Right/Left "
+     "open and close a configuration, Enter applies it, Ctrl+C copies its joint values. Tab moves through every "
+     "control."),
 ]
 
 

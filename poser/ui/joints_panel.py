@@ -1,9 +1,14 @@
-"""The joint panel: one row per joint (name, type, slider, value box, limits, margin bar, words)."""
+"""The joint panel: one row per joint (name, type, slider, value box, limits, margin bar, words).
+
+A value box keeps the digits typed (:data:`DECIMALS`: at least 4 for deg and mm, 6 for m and rad) and
+applies what is typed on Enter, on leaving the box, or after a pause of :data:`PAUSE_MS` — never the
+partial values on the way (typing 125 does not move the joint to 1 and 12 first).
+"""
 
 from __future__ import annotations
 
 import numpy as np
-from PySide6.QtCore import QEvent, QRectF, QSignalBlocker, Qt
+from PySide6.QtCore import QEvent, QRectF, QSignalBlocker, Qt, QTimer
 from PySide6.QtGui import QColor, QPainter, QPalette, QPen
 from PySide6.QtWidgets import (
     QAbstractSpinBox,
@@ -18,13 +23,26 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from poser.report import printable
 from poser.ui import palette
 from poser.ui.state import PoseState
 from poser.ui.words import LimitState, fmt, kind_words
 
 SLIDER_STEPS = 2000
+DECIMALS = {"deg": 4, "mm": 4, "in": 5, "m": 6, "rad": 6}
+"""Decimals a joint value box keeps, by unit (a ten-thousandth of a degree or millimetre, a micrometre)."""
+PAUSE_MS = 700
+"""A typed joint value is applied after this long without a keystroke (or at once on Enter)."""
 TINTS = {"near": "#FBEFCF", "at": "#F8D7D7", "beyond": "#F8D7D7"}
 """Light fills of a value box near or at a limit (the words beside it say the same)."""
+
+
+def spin_bound(lower: float, upper: float) -> float:
+    """The largest size a joint's value box takes: the power of ten above ten times the joint's largest number."""
+    import math
+
+    biggest = max(abs(lower), abs(upper), upper - lower, 1e-3)
+    return 10.0 ** math.ceil(math.log10(biggest * 10.0))
 
 
 class MarginBar(QWidget):
@@ -70,43 +88,58 @@ class JointRow:
     """The widgets of one joint (kept together so tests and the panel can reach them)."""
 
     def __init__(self, panel: JointPanel, i: int):
-        st = panel.state
-        chain = st.chain
         self.i = i
-        unit = st.unit_of(i)
-        lo, hi = (float(v[i]) for v in st.limits_user)
-        self.lower, self.upper = lo, hi
-        self.name = QLabel(chain.names[i])
+        self.name = QLabel()
         self.name.setMinimumWidth(80)
         self.name.setStyleSheet("font-weight: bold")
-        short, tip = kind_words(chain.kinds[i], unit)
-        self.kind = QLabel(short)
-        self.kind.setToolTip(tip)
+        self.kind = QLabel()
         self.kind.setStyleSheet(f"color: {palette.MUTED}")
         self.slider = QSlider(Qt.Orientation.Horizontal)
         self.slider.setRange(0, SLIDER_STEPS)
         self.slider.setMinimumWidth(100)
-        self.slider.setAccessibleName(f"{chain.names[i]} slider")
-        self.slider.setToolTip(f"{chain.names[i]}: drag over the range {fmt(lo)} … {fmt(hi)} {unit}")
         self.spin = QDoubleSpinBox()
-        span = hi - lo
-        self.spin.setRange(lo - 0.5 * span, hi + 0.5 * span)
-        self.spin.setDecimals(4 if unit in ("rad", "m") else 2)
-        self.spin.setSuffix(f" {unit}")
-        self.spin.setKeyboardTracking(True)
+        self.spin.setKeyboardTracking(False)  # typed digits apply on Enter or after a pause, not one by one
         self.spin.setAccelerated(True)
         self.spin.setCorrectionMode(QAbstractSpinBox.CorrectionMode.CorrectToNearestValue)
-        self.spin.setAccessibleName(f"{chain.names[i]} value in {unit}")
-        self.spin.setMinimumWidth(95)
+        self.spin.setMinimumWidth(110)
         self.spin_palette = QPalette(self.spin.palette())
-        self.limits = QLabel(f"{fmt(lo)} … {fmt(hi)} {unit}")
-        self.limits.setToolTip(f"{chain.names[i]}: lower limit … upper limit, {unit}")
-        self.limits.setAccessibleName(f"{chain.names[i]} limits")
+        self.typing = False  # digits typed and not yet applied: nothing from elsewhere overwrites them
+        self.limits = QLabel()
         self.bar = MarginBar()
         self.words = QLabel("")
         self.words.setMinimumWidth(150)
-        self.unit = unit
         self.level = None
+        self.describe(panel.state)
+
+    def describe(self, st: PoseState) -> None:
+        """Name, type, unit and limits of joint ``i`` of the state's arm (again after an edit of the arm)."""
+        chain = st.chain
+        i = self.i
+        unit = st.unit_of(i)
+        lo, hi = (float(v[i]) for v in st.limits_user)
+        self.lower, self.upper = lo, hi
+        self.unit = unit
+        name = printable(chain.names[i])
+        self.name.setText(name)
+        short, tip = kind_words(chain.kinds[i], unit)
+        self.kind.setText(short)
+        self.kind.setToolTip(tip)
+        self.slider.setAccessibleName(f"{name} slider")
+        self.slider.setToolTip(f"{name}: drag over the range {fmt(lo)} … {fmt(hi)} {unit}")
+        with QSignalBlocker(self.spin):
+            self.spin.setDecimals(DECIMALS.get(unit, 4))  # before the range: Qt rounds the range to the decimals
+            # wide enough for any value a person types (Qt drops a keystroke that would leave the range, so a
+            # narrow range turned a typed 456 into 45); beyond the limits the words and colours say so
+            bound = spin_bound(lo, hi)
+            self.spin.setRange(-bound, bound)
+            self.spin.setSuffix(f" {unit}")
+        self.spin.setAccessibleName(f"{name} value in {unit}")
+        self.spin.setToolTip(f"{name} in {unit}: type a value and press Enter (or pause); Up/Down move it by the "
+                             "arrow step")
+        self.limits.setText(f"{fmt(lo)} … {fmt(hi)} {unit}")
+        self.limits.setToolTip(f"{name}: lower limit … upper limit, {unit}")
+        self.limits.setAccessibleName(f"{name} limits")
+        self.level = None  # restyle at the next refresh
 
     def slider_to_value(self, pos: int) -> float:
         return self.lower + (self.upper - self.lower) * pos / SLIDER_STEPS
@@ -192,18 +225,34 @@ class JointPanel(QWidget):
         lay.addLayout(self.second_row)
         lay.addWidget(self.grid_host, 1)
         self._source = None
+        self.pause = QTimer(self)
+        self.pause.setSingleShot(True)
+        self.pause.setInterval(PAUSE_MS)
+        self.pause.timeout.connect(self._apply_typed)
+        self._typed_row: JointRow | None = None
         state.changed.connect(self._on_state)
         self._build()
 
     # -- building -------------------------------------------------------------------
     def _build(self) -> None:
-        for row in self.rows:
+        """Rows for the state's arm: the rows there are take the new joints' names, units and limits (no widget
+        rebuilt for an edit of the arm), missing rows are made, surplus rows go."""
+        n = self.state.chain.n
+        old_n = len(self.rows)
+        for row in self.rows[n:]:
             for w in row.widgets:
+                self.grid.removeWidget(w)
                 w.setParent(None)
                 w.deleteLater()
-        self.rows = []
+        self.rows = self.rows[:n]
+        self.pause.stop()
+        self._typed_row = None
+        for row in self.rows:
+            row.typing = False
+            row.describe(self.state)
+        self.grid.setRowStretch(2 * old_n, 0)
         # two lines per joint: name | slider | value | limits, then type | margin bar | state in words
-        for i in range(self.state.chain.n):
+        for i in range(len(self.rows), n):
             row = JointRow(self, i)
             r = 2 * i
             self.grid.addWidget(row.name, r, 0)
@@ -215,11 +264,13 @@ class JointPanel(QWidget):
             self.grid.addWidget(row.words, r + 1, 2, 1, 2)
             row.slider.valueChanged.connect(lambda pos, r=row: self._from_slider(r, pos))
             row.spin.valueChanged.connect(lambda v, r=row: self._from_spin(r, v))
+            row.spin.lineEdit().textEdited.connect(lambda _t, r=row: self._typed(r))
+            row.spin.editingFinished.connect(lambda r=row: self._typing_done(r))
             row.slider.installEventFilter(self)
             row.spin.installEventFilter(self)
             self.rows.append(row)
         self.grid.setColumnStretch(1, 1)
-        self.grid.setRowStretch(2 * self.state.chain.n, 1)
+        self.grid.setRowStretch(2 * n, 1)
         prev = self.step_length_spin
         for row in self.rows:
             QWidget.setTabOrder(prev, row.slider)
@@ -257,6 +308,43 @@ class JointPanel(QWidget):
         finally:
             self._source = None
 
+    def _typed(self, row: JointRow) -> None:
+        """A keystroke in a value box: wait for the pause (or Enter) before applying anything."""
+        if self._typed_row is not None and self._typed_row is not row:
+            self._apply_typed()
+        row.typing = True
+        self._typed_row = row
+        self.pause.start()
+
+    def typed_value(self, row: JointRow) -> float | None:
+        """The value typed in ``row``'s box, or None while the text is not a complete number in range."""
+        from PySide6.QtGui import QValidator
+
+        text = row.spin.text()
+        result = row.spin.validate(text, len(text))
+        state = result[0] if isinstance(result, (tuple, list)) else result
+        if state != QValidator.State.Acceptable:
+            return None
+        return float(row.spin.valueFromText(text))
+
+    def _apply_typed(self) -> None:
+        """After a pause: apply the typed number (the box keeps its text and the cursor where they are)."""
+        self.pause.stop()
+        row, self._typed_row = self._typed_row, None
+        if row is None or row not in self.rows:
+            return
+        v = self.typed_value(row)
+        if v is not None:
+            self._from_spin(row, v)
+
+    def _typing_done(self, row: JointRow) -> None:
+        """Enter or leaving the box: Qt has applied the value (valueChanged); the box may show the state again."""
+        if self._typed_row is row:
+            self.pause.stop()
+            self._typed_row = None
+        row.typing = False
+        self._refresh()
+
     def nudge(self, i: int, steps: float) -> None:
         """Move joint ``i`` by ``steps`` times the arrow-key step (arm units)."""
         q = self.state.q_user
@@ -267,6 +355,9 @@ class JointPanel(QWidget):
             for row in self.rows:
                 if obj is row.slider or obj is row.spin:
                     key = ev.key()
+                    if row.typing and key in (Qt.Key.Key_Up, Qt.Key.Key_Down, Qt.Key.Key_PageUp, Qt.Key.Key_PageDown):
+                        self._apply_typed()  # a step goes from what was typed, and the box shows the result
+                        row.typing = False
                     big = 10.0 if ev.modifiers() & Qt.KeyboardModifier.ShiftModifier else 1.0
                     ups = (Qt.Key.Key_Up, Qt.Key.Key_Right) if obj is row.slider else (Qt.Key.Key_Up,)
                     downs = (Qt.Key.Key_Down, Qt.Key.Key_Left) if obj is row.slider else (Qt.Key.Key_Down,)
@@ -294,7 +385,7 @@ class JointPanel(QWidget):
             if self._source is not row.slider:
                 with QSignalBlocker(row.slider):
                     row.slider.setValue(row.value_to_slider(float(np.clip(v, row.lower, row.upper))))
-            if self._source is not row.spin:
+            if self._source is not row.spin and not row.typing:
                 with QSignalBlocker(row.spin):
                     if not row.spin.minimum() <= v <= row.spin.maximum():
                         # a value from elsewhere (a branch beyond the limits, --joints) must show as it is,
@@ -304,7 +395,7 @@ class JointPanel(QWidget):
             pos = (float(v) - row.lower) / (row.upper - row.lower)
             row.bar.set_value(pos, margin, ls)
             row.words.setText(ls.words)
-            row.words.setAccessibleName(f"{st.chain.names[row.i]}: {ls.words}")
+            row.words.setAccessibleName(f"{printable(st.chain.names[row.i])}: {ls.words}")
             if row.level != ls.level:  # restyle only on a change of level (style sheets are slow)
                 colour = palette.LEVEL_COLOURS[ls.level]
                 weight = "bold" if ls.level != "ok" else "normal"

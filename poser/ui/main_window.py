@@ -1,4 +1,18 @@
-"""The main window: dockable panels around one shared state, menus, files, recovery and snapshots."""
+"""The main window: dockable panels around one shared state, menus, files, recovery and snapshots.
+
+Files (all through :mod:`poser.armfile`):
+
+* **Save** writes exactly what the editor shows: while an editor cell is invalid it refuses and names the
+  problem (or saves the last valid arm to another file, leaving the window unsaved).  A file changed on disk
+  since it was loaded (:class:`~poser.armfile.ChangedOnDiskError`) asks: reload, overwrite or save as; a
+  read-only file (:class:`~poser.armfile.ReadOnlyError`) is replaced only when asked; a folder that takes no
+  files asks for another place.  Symbolic links are written through (the link stays) and hard-linked files in
+  place (the file layer's rules).
+* **Watching**: a ``QFileSystemWatcher`` and a cheap poll of :func:`~poser.armfile.changed_on_disk` notice
+  another program changing the open file; the notice bar offers to reload (once per version of the file).
+* **Recovery copies**: every applied edit goes to a :class:`~poser.io.recovery.RecoveryWriter` (its own
+  thread, coalesced, throttled); while it cannot write, a persistent notice says so.
+"""
 
 from __future__ import annotations
 
@@ -6,7 +20,7 @@ import os
 import time
 from pathlib import Path
 
-from PySide6.QtCore import QPoint, QRect, QSettings, Qt, QTimer
+from PySide6.QtCore import QFileSystemWatcher, QObject, QPoint, QRect, QSettings, Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QGuiApplication, QKeySequence, QOffscreenSurface, QOpenGLContext, QPainter
 from PySide6.QtWidgets import (
     QApplication,
@@ -15,20 +29,32 @@ from PySide6.QtWidgets import (
     QMainWindow,
     QMessageBox,
     QScrollArea,
+    QToolBar,
     QWidget,
 )
 
 from poser import armfile
+from poser.report import printable
 from poser.ui import files
 from poser.ui.animate import JointAnimator
 from poser.ui.editor import EditorPanel
 from poser.ui.frames_panel import FramesPanel
 from poser.ui.help import HelpDialog
 from poser.ui.joints_panel import JointPanel
+from poser.ui.questions import Asker
 from poser.ui.solver import TargetSolver
 from poser.ui.state import PoseState
-from poser.ui.status import PoseStatusBar
+from poser.ui.status import NoticeBar, PoseStatusBar
 from poser.ui.target_panel import TargetPanel
+
+DISK_POLL_MS = 2000
+"""How often the open file is checked for changes by another program (besides the file watcher)."""
+
+
+class _RecoveryRelay(QObject):
+    """Carries the recovery writer's status from its thread to the GUI thread."""
+
+    status = Signal(bool, str)
 
 
 def gl_problem() -> tuple[str | None, str]:
@@ -83,6 +109,7 @@ class MainWindow(QMainWindow):
         self.solver = TargetSolver(self.state, parent=self)
         self.animator = JointAnimator(self.state, duration=0.6 if interactive else 0.0, parent=self)
         self.answers: list[str] = []  # queued answers to questions when not interactive (tests)
+        self.ask = Asker(self, interactive, self.answers)
         self.reports: list[str] = []  # messages shown (or that would be shown) to the user
         self._first_frame_hooks = []
 
@@ -103,6 +130,7 @@ class MainWindow(QMainWindow):
         self.frames = FramesPanel(self.state)
         self.target = TargetPanel(self.state, self.solver, self.animator)
         self.editor = EditorPanel(self.state)
+        self.editor.ask = self.ask
         placeholder = QWidget()
         placeholder.setMaximumSize(0, 0)
         self.setCentralWidget(placeholder)
@@ -139,7 +167,41 @@ class MainWindow(QMainWindow):
         self.status = PoseStatusBar(self.state, self.render_note, self)
         self.setStatusBar(self.status)
         self.solver.failed.connect(lambda text: self.status.showMessage(text, 8000))
+        self.notice_bar = QToolBar("Notices", self)
+        self.notice_bar.setObjectName("notices")
+        self.notice_bar.setMovable(False)
+        self.notice_bar.setFloatable(False)
+        self.notices = NoticeBar()
+        self.notice_bar.addWidget(self.notices)
+        self.addToolBar(Qt.ToolBarArea.TopToolBarArea, self.notice_bar)
+        self.notice_bar.setVisible(False)
+        self.notice_bar.toggleViewAction().setVisible(False)  # shown while there is a notice, by itself
+        self.notices.shown.connect(self.notice_bar.setVisible)
+        self.notices.shown.connect(lambda _on: QTimer.singleShot(0, self._keep_joints_shown))
+        self.state.notice.connect(lambda level, text: self.notices.show_notice("state", level, text,
+                                                                               timeout_ms=15000))
         self._build_menus()
+
+        # recovery copies: written on the writer's thread, its status comes back through a queued signal
+        self._recovery_relay = _RecoveryRelay()
+        self._recovery_relay.status.connect(self._recovery_status)
+        relay = self._recovery_relay
+        self.recovery = armfile.RecoveryWriter(files.recovery_path(self.state.path), min_interval=0.5,
+                                               on_status=lambda ok, msg: relay.status.emit(bool(ok), msg or ""))
+        # another program changing the open file
+        self.watcher = QFileSystemWatcher(self)
+        self._disk_event = QTimer(self)  # a file is often written in pieces: look once it has settled
+        self._disk_event.setSingleShot(True)
+        self._disk_event.setInterval(150)
+        self._disk_event.timeout.connect(lambda: self.check_disk(hash_now=True))
+        self.watcher.fileChanged.connect(lambda _p: self._disk_event.start())
+        self._disk_timer = QTimer(self)
+        self._disk_timer.setInterval(DISK_POLL_MS)
+        self._disk_timer.timeout.connect(self.check_disk)
+        self._disk_timer.start()
+        self._disk_asked = None  # the version of the file already asked about
+        self._watch()
+        self._joint_rows = self.state.chain.n
         self.state.changed.connect(self._on_state)
         self._title()
 
@@ -157,10 +219,17 @@ class MainWindow(QMainWindow):
         """Give the joint panel the height its rows need (within 30-60 % of the window), the target the rest."""
         h = self.height()
         title = self.docks["joints"].widget().mapTo(self.docks["joints"], QPoint(0, 0)).y() or 24
+        self.joints.layout().activate()  # rows just built: their size is known only once laid out
         want = self.joints.sizeHint().height() + title + 14
         joints = int(min(max(want, 0.3 * h), 0.6 * h))
         self.resizeDocks([self.docks["joints"], self.docks["target"]], [joints, max(h - joints, 1)],
                          Qt.Orientation.Vertical)
+
+    def _keep_joints_shown(self) -> None:
+        """After the notice bar came or went: refit the Joints dock if its rows no longer fit."""
+        scroll = self.docks["joints"].widget()
+        if getattr(self, "_sized", False) and scroll.verticalScrollBar().maximum() > 0:
+            self.fit_joint_dock()
 
     def _build_menus(self) -> None:
         mb = self.menuBar()
@@ -225,19 +294,14 @@ class MainWindow(QMainWindow):
     # -- questions and messages --------------------------------------------------------------------
     def ask_unsaved(self) -> str:
         """'save', 'discard' or 'cancel' for unsaved edits."""
-        if not self.interactive:
-            return self.answers.pop(0) if self.answers else "cancel"
-        box = QMessageBox(self)
-        box.setIcon(QMessageBox.Icon.Warning)
-        box.setWindowTitle("Unsaved changes")
-        box.setText(f"The arm '{self.state.spec.name}' has edits that are not saved.")
-        box.setInformativeText("Save them first?")
-        box.setStandardButtons(QMessageBox.StandardButton.Save | QMessageBox.StandardButton.Discard
-                               | QMessageBox.StandardButton.Cancel)
-        box.setDefaultButton(QMessageBox.StandardButton.Save)
-        r = box.exec()
-        return {QMessageBox.StandardButton.Save: "save", QMessageBox.StandardButton.Discard: "discard"}.get(
-            QMessageBox.StandardButton(r), "cancel")
+        st = self.state
+        info = "Save them first?"
+        if st.unapplied:
+            info = ("The arm editor also holds an edit that is not valid (Save refuses it until it is fixed):\n"
+                    + "\n".join(f"• {p}" for p in st.unapplied))
+        return self.ask("Unsaved changes", f"The arm '{printable(st.spec.name)}' has edits that are not saved.",
+                        info, (("save", "&Save"), ("discard", "&Discard"), ("cancel", "Cancel")), "cancel",
+                        QMessageBox.Icon.Warning)
 
     def report(self, title: str, text: str) -> None:
         self.reports.append(text)
@@ -278,37 +342,157 @@ class MainWindow(QMainWindow):
         self.offer_recovery()
         return True
 
+    def reload(self, ask_if_dirty: bool = True) -> bool:
+        """Read the open file again (after another program changed it); unsaved edits go, after a question."""
+        st = self.state
+        if st.path is None:
+            return False
+        if ask_if_dirty and st.dirty:
+            choice = self.ask("Reload the arm file",
+                              f"Reload {printable(st.path.name)} from disk and lose the edits not saved here?",
+                              "Your edits stay in the recovery copy until your next edit or save; Poser "
+                              "offers it when this file is opened again.",
+                              (("reload", "&Reload"), ("cancel", "Cancel")), "cancel", QMessageBox.Icon.Warning)
+            if choice != "reload":
+                return False
+        try:
+            spec = armfile.load(st.path)
+        except armfile.ArmFileError as exc:
+            self.report("Cannot reload the arm file", "\n".join(str(p) for p in exc.problems))
+            return False
+        self.recovery.flush(2.0)  # the recovery copy keeps the dropped edits until the next edit or save
+        st.set_arm(spec, path=st.path, dirty=False)
+        self.notices.clear("disk")
+        self._disk_asked = None
+        self.status.showMessage(f"Reloaded {st.path}", 5000)
+        return True
+
     def save(self) -> bool:
         if self.state.path is None:
             return self.save_as()
         return self._save_to(self.state.path)
 
     def save_as(self, path=None) -> bool:
+        if self._refuse_unapplied():
+            return False
+        path = path if path is not None else self._ask_save_path("Save arm file as")
         if path is None:
-            if not self.interactive:
-                return False
-            start = str(self.state.path) if self.state.path else f"{self.state.spec.name}.toml"
-            path, _ = QFileDialog.getSaveFileName(self, "Save arm file as", start, "Arm files (*.toml)")
-            if not path:
-                return False
+            return False
         return self._save_to(Path(path))
 
-    def _save_to(self, path: Path) -> bool:
-        old_recovery = files.recovery_path(self.state.path)
+    def _ask_save_path(self, title: str):
+        if not self.interactive:
+            return self.answers.pop(0) if self.answers and isinstance(self.answers[0], Path) else None
+        start = str(self.state.path) if self.state.path else f"{self.state.spec.name}.toml"
+        path, _ = QFileDialog.getSaveFileName(self, title, start, "Arm files (*.toml)")
+        return Path(path) if path else None
+
+    def _refuse_unapplied(self) -> bool:
+        """True (and the user told, and offered a way out) while an editor edit is not valid."""
+        st = self.state
+        if not st.unapplied:
+            return False
+        problems = "\n".join(f"• {p}" for p in st.unapplied)
+        text = ("Not saved: the arm editor holds an edit that is not valid, and the file must hold what the "
+                "editor shows.")
+        self.reports.append(f"{text}\n{problems}")
+        self.status.showMessage(text, 10000)
+        choice = self.ask("Cannot save yet", text, problems,
+                          (("fix", "&Go to the problem"), ("last", "Save the &last valid arm as…"),
+                           ("cancel", "Cancel")), "cancel", QMessageBox.Icon.Warning)
+        if choice == "fix":
+            self.focus_panel("editor")
+            self.editor.first_problem_widget()
+        elif choice == "last":
+            path = self._ask_save_path("Save the last valid arm as")
+            if path is not None:
+                spec = st.spec.copy()
+                spec.stamp = None
+                try:
+                    armfile.save(spec, path)
+                except (armfile.ArmFileError, OSError) as exc:
+                    self.report("Cannot save the arm file", f"{path}: {exc}")
+                else:
+                    self.status.showMessage(f"Saved the last valid arm to {path}; the editor's invalid edit is not "
+                                            "in it, and this window stays unsaved", 10000)
+        return True
+
+    def _save_to(self, path: Path, overwrite: bool = False, allow_readonly: bool = False) -> bool:
+        st = self.state
+        if self._refuse_unapplied():
+            return False
+        spec = st.spec
         try:
-            armfile.save(self.state.spec, path)
+            if not overwrite:
+                self._check_unchanged(path)
+            armfile.save(spec, path, overwrite=overwrite, allow_readonly=allow_readonly)
+        except armfile.ChangedOnDiskError as exc:
+            gone = exc.found is None
+            what = "was removed or renamed" if gone else "was changed by another program"
+            choice = self.ask(
+                "The file changed on disk",
+                f"{printable(str(path))} {what} since it was loaded.",
+                "Reload: read it again (your edits here are lost). Overwrite: replace it with this arm (the other "
+                "version is lost). Save as: keep both.",
+                (("reload", "&Reload"), ("overwrite", "&Overwrite"), ("saveas", "Save &as…"), ("cancel", "Cancel")),
+                "cancel", QMessageBox.Icon.Warning)
+            if choice == "reload":
+                self.reload(ask_if_dirty=False)
+                return False  # nothing was saved: the file's version is shown now
+            if choice == "overwrite":
+                return self._save_to(path, overwrite=True, allow_readonly=allow_readonly)
+            if choice == "saveas":
+                return self.save_as()
+            return False
+        except armfile.ReadOnlyError:
+            choice = self.ask(
+                "The file is read-only",
+                f"{printable(str(path))} is read-only.",
+                "Replace it anyway (it stays read-only), or save the arm to another file.",
+                (("replace", "&Replace anyway"), ("saveas", "Save &as…"), ("cancel", "Cancel")), "cancel",
+                QMessageBox.Icon.Warning)
+            if choice == "replace":
+                return self._save_to(path, overwrite=overwrite, allow_readonly=True)
+            if choice == "saveas":
+                return self.save_as()
+            return False
+        except armfile.FolderNotWritableError as exc:
+            choice = self.ask("Cannot save here", str(exc.problems[0]) if exc.problems else str(exc),
+                              "Save the arm to another folder?", (("saveas", "Save &as…"), ("cancel", "Cancel")),
+                              "cancel", QMessageBox.Icon.Warning)
+            self.reports.append(str(exc))
+            return self.save_as() if choice == "saveas" else False
         except (armfile.ArmFileError, OSError) as exc:
             self.report("Cannot save the arm file", f"{path}: {exc}")
             return False
-        try:
-            old_recovery.unlink()
-        except OSError:
-            pass
-        self.state.mark_saved(path)
-        self._drop_recovery()
+        old_path = st.path
+        self.recovery.discard()  # the copy of the old path: its edits are in the file now
+        st.mark_saved(path)
+        if st.path != old_path:
+            self.recovery.set_path(files.recovery_path(st.path))
+            self.recovery.discard()
+        self._disk_asked = None
+        self.notices.clear("disk")
+        self._watch()
         self._push_recent(path)
         self.status.showMessage(f"Saved {path}", 5000)
         return True
+
+    def _check_unchanged(self, path: Path) -> None:
+        """Raise :class:`~poser.armfile.ChangedOnDiskError` when ``path`` is the loaded file and its bytes changed.
+
+        The file layer compares time, size and inode first and hashes only when one of them moved; a change of
+        the same size within one tick of the file system's clock keeps all three.  Before replacing a file the
+        window reads it and compares the hash itself (at most 1 MiB).
+        """
+        stamp = getattr(self.state.spec, "stamp", None)
+        if not isinstance(stamp, armfile.DiskStamp) or self.state.path is None:
+            return
+        if Path(path) != self.state.path:
+            return  # saved as another file: nothing was loaded from there
+        now = armfile.DiskStamp.read(path)
+        if now is None or now.sha256 != stamp.sha256:
+            raise armfile.ChangedOnDiskError(str(path), stamp, now)
 
     def _push_recent(self, path) -> None:
         recent = self.settings.value("recent", [], type=list) or []
@@ -324,24 +508,77 @@ class MainWindow(QMainWindow):
             self.recent_menu.addAction(r, lambda p=r: self.open_file(p))
         self.recent_menu.setEnabled(bool(self.recent_files()))
 
+    # -- watching the open file -----------------------------------------------------------------------
+    def _watch(self) -> None:
+        """Watch the open file (again: an editor that saves by renaming makes the watcher lose it)."""
+        old = self.watcher.files()
+        if old:
+            self.watcher.removePaths(old)
+        if self.state.path is not None and self.state.path.exists():
+            self.watcher.addPath(str(self.state.path))
+
+    def check_disk(self, hash_now: bool = False) -> bool:
+        """Offer to reload when another program changed (or removed) the open file; True when it changed.
+
+        The poll asks :func:`~poser.armfile.changed_on_disk` (a ``stat``, a hash only when it moved); the
+        watcher's event (``hash_now``) compares the hash at once.  Asked once per version of the file; our own
+        saves update the spec's stamp, so they are no change.
+        """
+        st = self.state
+        stamp = getattr(st.spec, "stamp", None)
+        if st.path is None or stamp is None:
+            return False
+        if st.path.exists() and str(st.path) not in self.watcher.files():
+            self._watch()
+        if hash_now:
+            now = armfile.DiskStamp.read(st.path)
+            changed = now is None or now.sha256 != stamp.sha256
+        else:
+            changed = armfile.changed_on_disk(stamp, st.path)
+        if not changed:
+            if self._disk_asked is not None:
+                self.notices.clear("disk")
+                self._disk_asked = None
+            return False
+        now = armfile.DiskStamp.read(st.path)
+        version = now.sha256 if now is not None else "gone"
+        if version == self._disk_asked:
+            return True
+        self._disk_asked = version
+        name = printable(st.path.name)
+        if now is None:
+            text = f"{name} was removed or renamed by another program. Save writes it again."
+            self.notices.show_notice("disk", "near", text)
+        else:
+            lost = " — your unsaved edits here would be lost" if st.dirty else ""
+            text = (f"{name} was changed by another program. Reload it{lost}, or keep this version "
+                    "(Save will ask before replacing theirs).")
+            keep = ("Keep &mine", lambda: self.notices.clear("disk"))
+            self.notices.show_notice("disk", "near", text, actions=(("&Reload", self.reload), keep))
+        self.status.showMessage(text, 8000)
+        return True
+
     # -- recovery ----------------------------------------------------------------------------------
     @property
     def recovery_file(self) -> Path:
         return files.recovery_path(self.state.path)
 
     def _write_recovery(self) -> None:
-        if not self.state.dirty:
+        """Hand the present arm to the recovery writer (it writes on its own thread, the latest edit wins)."""
+        if self.state.dirty:
+            self.recovery.submit(self.state.spec)
+
+    def _recovery_status(self, ok: bool, message: str) -> None:
+        if ok:
+            self.notices.clear("recovery")
             return
-        try:
-            files.write_atomic(self.recovery_file, armfile.dumps(self.state.spec))
-        except (OSError, armfile.ArmFileError) as exc:
-            self.status.showMessage(f"Cannot write the recovery copy: {exc}", 8000)
+        self.notices.show_notice(
+            "recovery", "at",
+            f"Recovery copies cannot be written ({message}). Your unsaved edits are only in this window until "
+            "you save them.")
 
     def _drop_recovery(self) -> None:
-        try:
-            self.recovery_file.unlink()
-        except OSError:
-            pass
+        self.recovery.discard()
 
     def offer_recovery(self) -> bool:
         """If a recovery copy of this arm exists and differs from the file, offer (or, in tests, take) it."""
@@ -356,14 +593,12 @@ class MainWindow(QMainWindow):
         if rec.read_text(encoding="utf-8") == current:
             self._drop_recovery()
             return False
-        if self.interactive:
-            r = QMessageBox.question(self, "Recover unsaved edits?",
-                                     f"Poser kept unsaved edits of '{spec.name}' from an earlier session "
-                                     f"({rec}). Restore them?")
-            if r != QMessageBox.StandardButton.Yes:
-                return False
-        elif not (self.answers and self.answers.pop(0) == "restore"):
+        choice = self.ask("Recover unsaved edits?",
+                          f"Poser kept unsaved edits of '{printable(spec.name)}' from an earlier session ({rec}).",
+                          "Restore them?", (("restore", "&Restore"), ("cancel", "&Not now")), "cancel")
+        if choice != "restore":
             return False
+        spec.stamp = self.state.spec.stamp  # still the file on disk's version: a save checks against it
         self.state.set_arm(spec, dirty=True)
         return True
 
@@ -371,13 +606,24 @@ class MainWindow(QMainWindow):
     def _title(self) -> None:
         st = self.state
         name = st.path.name if st.path else "not saved"
-        self.setWindowTitle(f"Poser — {st.chain.name} — {name}[*]")
+        self.setWindowTitle(f"Poser — {printable(st.chain.name)} — {printable(name)}[*]")
         self.setWindowModified(st.dirty)
 
     def _on_state(self, field: str) -> None:
-        if field == "arm" and getattr(self, "_sized", False) and self.state.writer is not self.editor:
-            self.fit_joint_dock()  # another arm: another number of joint rows (not while editing rows live)
-        if field in ("document", "arm"):
+        st = self.state
+        if field == "arm" and st.chain.n != self._joint_rows:
+            # another number of joint rows: give them room once the panel has laid them out
+            self._joint_rows = st.chain.n
+            if getattr(self, "_sized", False):
+                QTimer.singleShot(0, self.fit_joint_dock)
+        if field == "document":
+            self._title()
+            if self.recovery.path != files.recovery_path(st.path):
+                self.recovery.set_path(files.recovery_path(st.path))
+                self._disk_asked = None
+                self.notices.clear("disk")
+                self._watch()
+        if field == "spec":
             self._title()
             self._write_recovery()
 
@@ -389,6 +635,10 @@ class MainWindow(QMainWindow):
             ev.ignore()
             return
         self._close_agreed = True  # asked once; closing again on the way out asks nothing
+        self.solver.shutdown()
+        self._disk_timer.stop()
+        self._disk_event.stop()
+        self.recovery.close(flush=True)
         ev.accept()
 
     # -- frames and snapshots ---------------------------------------------------------------------------

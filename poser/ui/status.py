@@ -1,13 +1,97 @@
-"""The status bar: singularity proximity, limit warnings, arm name and units, and how the view is drawn."""
+"""The status bar (singularity proximity, a point below the mounting plane, limit warnings, arm name and
+units, how the view is drawn) and the notice bar (persistent warnings and questions that must not interrupt
+typing: the file changed on disk, recovery copies failing, a target converted to another arm's unit)."""
 
 from __future__ import annotations
 
-from PySide6.QtWidgets import QHBoxLayout, QLabel, QSizePolicy, QStatusBar, QWidget
+from PySide6.QtCore import QTimer, Signal
+from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel, QPushButton, QSizePolicy, QStatusBar, QVBoxLayout, QWidget
 
 from poser import report
-from poser.ui import palette
+from poser.ui import geometry, palette, words
 from poser.ui.elided import ElidedLabel
 from poser.ui.state import PoseState
+
+
+def below_mount_check(state: PoseState):
+    """What :func:`poser.ui.geometry.below_mount` says of the present pose (None while that function is missing).
+
+    It is the 3D view's geometry (``below_mount(chain, drawing)``); the status bar only words its answer.
+    """
+    fn = getattr(geometry, "below_mount", None)
+    if fn is None:
+        return None
+    return state._cached("below_mount", lambda: fn(state.chain, state.drawing()))
+
+
+class NoticeBar(QWidget):
+    """Notices one above the other, each with its level's colour, words and buttons.
+
+    ``show_notice(key, level, text, actions=(), timeout_ms=None)`` adds or replaces the notice ``key``;
+    ``actions`` is a sequence of ``(label, callable)``; a notice with a timeout goes by itself, the others
+    stay until :meth:`clear` (or a button that clears it).  ``shown(bool)`` tells the host whether there is
+    any notice (the main window shows its notice toolbar only then).
+    """
+
+    shown = Signal(bool)
+
+    def __init__(self, parent=None):
+        super().__init__(parent)
+        self._lay = QVBoxLayout(self)
+        self._lay.setContentsMargins(4, 2, 4, 2)
+        self._lay.setSpacing(2)
+        self.items: dict = {}
+
+    def show_notice(self, key: str, level: str, text: str, actions=(), timeout_ms: int | None = None) -> QFrame:
+        self.clear(key)
+        row = QFrame(self)
+        row.setObjectName(f"notice_{key}")
+        colour = palette.LEVEL_COLOURS.get(level, palette.TEXT) if level != "ok" else palette.TEXT
+        row.setStyleSheet(f"QFrame#notice_{key} {{ border: 1px solid {colour}; border-radius: 3px; }}")
+        lay = QHBoxLayout(row)
+        lay.setContentsMargins(6, 1, 2, 1)
+        lay.setSpacing(6)
+        label = ElidedLabel(text)  # one line; a longer text ends in "…" and is whole in the tooltip
+        label.setStyleSheet(f"color: {colour}; font-weight: {'bold' if level == 'at' else 'normal'}; border: none")
+        label.setAccessibleName(f"notice: {key}")
+        lay.addWidget(label, 1)
+        row.buttons = {}
+        for text_, fn in actions:
+            b = QPushButton(text_)
+            b.clicked.connect(lambda _=False, f=fn: f())
+            lay.addWidget(b)
+            row.buttons[text_.replace("&", "")] = b
+        close = QPushButton("Dismiss")
+        close.setToolTip("hide this notice")
+        close.clicked.connect(lambda: self.clear(key))
+        lay.addWidget(close)
+        row.label = label
+        row.level = level
+        self._lay.addWidget(row)
+        self.items[key] = row
+        if timeout_ms:
+            timer = QTimer(row)  # goes with its notice
+            timer.setSingleShot(True)
+            timer.timeout.connect(lambda: self.clear(key))
+            timer.start(timeout_ms)
+        self.shown.emit(True)
+        return row
+
+    def text(self, key: str) -> str:
+        row = self.items.get(key)
+        return row.label.text() if row is not None else ""
+
+    def press(self, key: str, button: str) -> None:
+        """Click a notice's button by its label (without '&'): tests and keyboard scripts."""
+        self.items[key].buttons[button].click()
+
+    def clear(self, key: str) -> None:
+        row = self.items.pop(key, None)
+        if row is not None:
+            row.setParent(None)
+            row.deleteLater()
+        if not self.items:
+            self.shown.emit(False)
 
 
 def short_render_note(note: str) -> str:
@@ -26,6 +110,9 @@ class PoseStatusBar(QStatusBar):
         self.singular.setAccessibleName("singularity proximity")
         self.limits = ElidedLabel()
         self.limits.setAccessibleName("limit warnings")
+        self.mount = ElidedLabel()
+        self.mount.setAccessibleName("below the mounting plane")
+        self.mount.setVisible(False)
         self.arm = QLabel()
         self.render = QLabel(short_render_note(render_note))
         self.render.setStyleSheet(f"color: {palette.MUTED}")
@@ -40,6 +127,7 @@ class PoseStatusBar(QStatusBar):
         box.setContentsMargins(0, 0, 0, 0)
         box.setSpacing(14)
         box.addWidget(self.singular)
+        box.addWidget(self.mount)
         box.addWidget(self.limits, 1)
         self.addWidget(self.warnings, 1)
         self.addPermanentWidget(self.arm)
@@ -75,6 +163,13 @@ class PoseStatusBar(QStatusBar):
             f"infinite at a singularity; above 80 Poser warns).\n{report.manipulability_tip(st.chain)}"
         )
         self._style(self.singular, level)
+        below = words.below_mount_words(st.chain, below_mount_check(st))
+        self.mount.setVisible(bool(below))
+        if below:
+            self.mount.setText(below)
+            self.mount.setToolTip(f"{below}\n\nThe mounting plane is the base's x-y plane (the floor for a floor-"
+                                  "mounted arm, the wall or ceiling otherwise); a real arm would hit it there.")
+            self._style(self.mount, "at")
         states = st.limit_states()
         bad = [(n, s) for n, s in zip(st.chain.names, states) if s.level != "ok"]
         if not bad:
@@ -90,11 +185,11 @@ class PoseStatusBar(QStatusBar):
         u = st.chain.units
         name = st.path.name if st.path else "not saved"
         star = " (edited)" if st.dirty else ""
-        self.arm.setText(f"{st.chain.name} · {u.length}, {u.angle} · {name}{star}")
+        self.arm.setText(f"{report.printable(st.chain.name)} · {u.length}, {u.angle} · {report.printable(name)}{star}")
         self.arm.setToolTip(f"arm name · length and angle units · file{': ' + str(st.path) if st.path else ''}")
         self.arm.setMaximumWidth(320)
         self.render.setMaximumWidth(380)
 
     def _on_state(self, field: str) -> None:
-        if field in ("q", "arm", "options", "document"):
+        if field in ("q", "arm", "options", "document", "spec"):
             self._refresh()

@@ -1,19 +1,26 @@
-"""The target panel: a tool pose to reach, solved live; the branches listed, previewed and applied."""
+"""The target panel: a tool pose to reach, solved live; the branches listed, previewed and applied.
+
+The branch list is one :class:`poser.ui.tables.BranchModel` in a :class:`BranchView` (a tree: a
+configuration's other turn variants open under it).  Hovering or selecting any row writes that branch to
+the state; the filter "only within limits" is the state option ``ghosts_within_limits_only``, which the
+3D view's ghosts follow too.
+"""
 
 from __future__ import annotations
 
 import numpy as np
-from PySide6.QtCore import QEvent, QSignalBlocker, Qt
-from PySide6.QtGui import QColor
+from PySide6.QtCore import QEvent, QItemSelectionModel, QSignalBlocker, QSize, Qt
+from PySide6.QtGui import QGuiApplication, QKeySequence
 from PySide6.QtWidgets import (
     QAbstractItemView,
+    QCheckBox,
     QComboBox,
     QDoubleSpinBox,
     QHBoxLayout,
     QHeaderView,
     QLabel,
     QPushButton,
-    QTableWidgetItem,
+    QTreeView,
     QVBoxLayout,
     QWidget,
 )
@@ -23,28 +30,43 @@ from poser.ui import geometry, ikbridge, palette, words
 from poser.ui.animate import JointAnimator
 from poser.ui.solver import TargetSolver
 from poser.ui.state import PoseState, Target
-from poser.ui.tables import CompactTable
+from poser.ui.tables import COL_LABEL, COL_LIMITS, COL_MANIP, COL_MOVE, COL_NUMBER, BranchModel, joint_units
 
 MODES = ("rpy", "axis-angle", "quaternion", "position only")
-COLUMNS = ("#", "branch", "limits", "manip.", "largest move")
-HEADER_TIPS = (
-    "branch number",
-    "how the arm is set up in this branch (the whole label is also in the line below the list)",
-    "yes when every joint is inside its limits; otherwise NO and the joint furthest beyond a limit",
-    "manipulability: Yoshikawa's measure over the directions the arm controls, in the arm's units; "
-    "0 at a singularity (the unit is in the column header's tooltip and the status bar's)",
-    "the largest single joint move from the present pose (which joint: hover the cell, or see below the list)",
-)
-LIMIT_COL_MAX = 140
-"""Widest the limits column grows (pixels) before its text wraps onto a second line."""
-MANIP_COL_MAX = 110
+LABEL_MIN = 200
+"""Narrowest the branch label column gets (pixels); the others are as wide as their texts."""
+LIMIT_COL_MAX = 130
+"""Widest the limits column grows (pixels); a longer reason ends in "…" (the tooltip has every violation)."""
 FIELD_LIMIT = 1e6
 """Largest size of a value in the target fields (arm units)."""
 DECIMALS = {"mm": 3, "m": 5, "in": 4, "deg": 3, "rad": 5}
 """Decimals of the target fields by unit (a tenth of a micrometre-ish, a thousandth of a degree)."""
 
 
-limits_cell = words.limits_cell
+
+
+class BranchView(QTreeView):
+    """The branch list: asks for little height (the panel's layout gives it the rest), one line per row."""
+
+    def __init__(self, parent=None):
+        super().__init__(parent)
+        self.setUniformRowHeights(True)  # one line per row: Qt lays out thousands of rows without measuring them
+        self.setAllColumnsShowFocus(True)
+        self.setRootIsDecorated(True)
+        self.setItemsExpandable(True)
+        self.setExpandsOnDoubleClick(False)  # a double-click applies the branch
+        self.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        self.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
+        self.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.setMouseTracking(True)
+        self.setTextElideMode(Qt.TextElideMode.ElideRight)
+        self.setIndentation(14)
+
+    def sizeHint(self) -> QSize:
+        hint = super().sizeHint()
+        hint.setHeight(self.header().sizeHint().height() + 4 * max(self.fontMetrics().lineSpacing() + 4, 18)
+                       + 2 * self.frameWidth())
+        return hint
 
 
 class TargetPanel(QWidget):
@@ -113,34 +135,38 @@ class TargetPanel(QWidget):
         self.summary.setAccessibleName("solution summary")
         self.summary.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
         lay.addWidget(self.summary)
-        self.table = CompactTable(0, len(COLUMNS))
-        self.table.setHorizontalHeaderLabels(COLUMNS)
-        self.table.verticalHeader().setVisible(False)
-        self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
-        self.table.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
-        self.table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
-        self.table.setMouseTracking(True)
+        list_row = QHBoxLayout()
+        self.within_only = QCheckBox("Only w&ithin limits")
+        self.within_only.setToolTip("list (and draw as ghosts) only the branches that reach the target with every "
+                                    "joint inside its limits")
+        self.within_only.setChecked(bool(state.option("ghosts_within_limits_only")))
+        self.within_only.toggled.connect(lambda on: self.state.set_option("ghosts_within_limits_only", on,
+                                                                          writer=self))
+        self.copy_button = QPushButton("Cop&y joints")
+        self.copy_button.setToolTip("copy the selected branch's joint values as one line, in the arm's units "
+                                    "(Ctrl+C in the list does the same)")
+        self.copy_button.clicked.connect(self.copy_selected)
+        self.shown_label = QLabel()
+        self.shown_label.setStyleSheet(f"color: {palette.MUTED}")
+        list_row.addWidget(self.within_only)
+        list_row.addSpacing(8)
+        list_row.addWidget(self.shown_label, 1)
+        list_row.addWidget(self.copy_button)
+        lay.addLayout(list_row)
+
+        self.model = BranchModel(state, self)
+        self.table = BranchView()
+        self.table.setModel(self.model)
         self.table.setAccessibleName("branches")
-        hh = self.table.horizontalHeader()
-        hh.setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
-        hh.setSectionResizeMode(1, QHeaderView.ResizeMode.Stretch)  # the label takes what is left, and wraps
-        hh.setSectionResizeMode(2, QHeaderView.ResizeMode.Interactive)
-        hh.setSectionResizeMode(3, QHeaderView.ResizeMode.Interactive)
+        hh = self.table.header()
         hh.setStretchLastSection(False)
         hh.setMinimumSectionSize(24)
-        # No sideways scrolling: every column fits the panel; long texts wrap onto a second line.
-        self.table.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-        self.table.setWordWrap(True)
-        self.table.setTextElideMode(Qt.TextElideMode.ElideMiddle)
-        self.table.verticalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
-        self.table.verticalHeader().setMinimumSectionSize(20)
-        for c, tip in enumerate(HEADER_TIPS):
-            self.table.horizontalHeaderItem(c).setToolTip(tip)
-        self.table.cellEntered.connect(lambda r, _c: self.state.hover_branch(r, writer=self))
+        hh.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+        self.table.entered.connect(lambda index: self.state.hover_branch(self.model.branch_of(index), writer=self))
         self.table.viewport().installEventFilter(self)
         self.table.installEventFilter(self)
-        self.table.itemSelectionChanged.connect(self._from_selection)
-        self.table.cellDoubleClicked.connect(lambda r, _c: self.apply_selected())
+        self.table.selectionModel().selectionChanged.connect(lambda *_: self._from_selection())
+        self.table.doubleClicked.connect(lambda _index: self.apply_selected())
         self.table.setMinimumHeight(4 * 22)
         lay.addWidget(self.table, 1)
         self.details = QLabel()
@@ -154,9 +180,12 @@ class TargetPanel(QWidget):
             s.valueChanged.connect(self._from_fields)
         self.mode.currentIndexChanged.connect(self._mode_changed)
         solver.failed.connect(lambda text: self._say("at", text))
+        solver.busy.connect(lambda _busy: self._show_summary())
         state.changed.connect(self._on_state)
         self._layout_mode()
         self._units()
+        self.last_copied = ""
+        self._filtered = bool(state.option("ghosts_within_limits_only"))
         self._fill_table()
         if not ikbridge.available():
             self._say("near", f"Targets are shown, but {ikbridge.IK_MISSING}.")
@@ -253,7 +282,7 @@ class TargetPanel(QWidget):
             R = geometry.rotation_from_values("rpy", v[3:], self.state.chain.units.angle_to_rad)
         self.state.set_target(Target(v[:3], R), writer=self)
         self._target_to_fields(self.state.target)
-        self.solver.solve_now()
+        self.solver.solve_now()  # at once, on this thread: the caller wants the answer now
 
     def take_current(self) -> None:
         T = self.state.tool()
@@ -270,90 +299,78 @@ class TargetPanel(QWidget):
         self.summary.setText(text)
         self.summary.setStyleSheet(f"color: {colour}")
 
-    def _branch_metrics(self) -> list[tuple[str, str, float]]:
-        """(singularity level, singularity words, condition number) of every branch (the status bar's verdict)."""
-        from poser.core.singularity import assess
-
+    def _show_summary(self) -> None:
         st = self.state
-        out = []
-        for b in st.branches:
-            s = assess(st.chain, b.q)
-            level, w = words.singularity_words(st.chain, s)
-            out.append((level, w, s.condition))
-        return out
+        chain = st.chain
+        level, text = words.ik_summary(chain, st.ik)
+        tip = "" if st.ik is None else f"solver: {st.ik.solver}\n{words.ik_message(chain, st.ik)}"
+        if st.target is None:
+            level, text = "ok", "No target. Type a tool pose above or press 'Take current pose'."
+        elif st.ik is None:
+            if not ikbridge.available():
+                level, text = "near", f"Not solved: {ikbridge.IK_MISSING}."
+            elif self.solver.last_error and not self.solver.pending:
+                level, text = "at", self.solver.last_error
+            else:
+                level, text = "ok", "Solving…"
+        self._say(level, text)
+        self.summary.setToolTip(tip)
 
     def _fill_table(self) -> None:
         st = self.state
-        chain = st.chain
-        branches = st.branches
-        position_only = bool(getattr(st.ik, "position_only", False))
-        self._metrics = self._branch_metrics()
-        with QSignalBlocker(self.table):
-            self.table.setRowCount(len(branches))
-            for r, (b, (s_level, s_words, kappa)) in enumerate(zip(branches, self._metrics)):
-                limits = limits_cell(chain, b)
-                reaches = getattr(b, "reaches", True)
-                label = b.label if reaches else f"{b.label} — {words.miss_words(chain, b, position_only)}"
-                if b.family is not None:
-                    label += " · family"
-                manip = words.manipulability_text(chain, b.manipulability)
-                if s_level != "ok":
-                    manip += " singular" if s_level == "at" else " near singular"
-                move = words.largest_move(chain, st.q, b.q)
-                size = move.split(" by ", 1)[-1] if "; " not in move else move
-                fam = f"\n{report.family_words(chain, b.family)}" if b.family is not None else ""
-                cells = (
-                    (str(r + 1), f"branch {r + 1}"),
-                    (label, label + fam),
-                    (limits, "; ".join(words.violations_words(chain, b.violations)) or "every joint within its limits"),
-                    (manip, f"manipulability {manip}, condition {words.fmt(kappa, 1)}: {s_words}"),
-                    (size, f"largest joint move from the present pose: {move}"),
-                )
-                for c, (text, tip) in enumerate(cells):
-                    item = QTableWidgetItem(text)
-                    item.setToolTip(tip)
-                    if c == 2:
-                        item.setForeground(QColor(palette.OK if b.within_limits else palette.AT))
-                    elif c == 1 and not reaches:
-                        item.setForeground(QColor(palette.AT))  # and "misses by …" in words
-                    elif c == 3 and s_level != "ok":
-                        item.setForeground(QColor(palette.LEVEL_COLOURS[s_level]))
-                    if c in (0, 3, 4):
-                        item.setTextAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
-                    self.table.setItem(r, c, item)
-            self.table.clearSelection()
+        self._filtered = bool(st.option("ghosts_within_limits_only"))
+        shown = st.shown_branches()
+        self.model.reset(st.branch_rows() if st.branches else (), shown)
+        n, total = len(shown), len(st.branches)
+        self.shown_label.setText("" if total == 0 or n == total else f"{n} of {total} branches shown")
         self._fit_columns()
-        level, text = words.ik_summary(chain, st.ik)
-        tip = "" if st.ik is None else f"solver: {st.ik.solver}\n{words.ik_message(chain, st.ik)}"
-        if st.ik is None and st.target is not None:
-            level, text = ("ok", "Solving…" if ikbridge.available() else f"Not solved: {ikbridge.IK_MISSING}.")
-        elif st.target is None:
-            level, text = "ok", "No target. Type a tool pose above or press 'Take current pose'."
-        self._say(level, text)
-        self.summary.setToolTip(tip)
-        self.apply_button.setEnabled(False)
+        self._show_summary()
+        self._select_in_view()
+        self.apply_button.setEnabled(st.selected >= 0)
+        self.copy_button.setEnabled(st.selected >= 0)
         self._show_details()
 
     def _fit_columns(self) -> None:
-        """Numbers and verdicts as wide as their text (within a cap, then they wrap); the label gets the rest."""
-        for c, cap in ((2, LIMIT_COL_MAX), (3, MANIP_COL_MAX)):
-            head = self.table.horizontalHeader().sectionSizeFromContents(c).width()
-            want = max(head, self.table.sizeHintForColumn(c) if self.table.rowCount() else 0)
-            self.table.setColumnWidth(c, min(cap, want))
-        self.table.resizeRowsToContents()
+        """Numbers and verdicts as wide as their texts (the limit reason within a cap, then "…"); the label
+        and joint values get what is left, at least :data:`LABEL_MIN` (a narrower panel scrolls sideways)."""
+        st = self.state
+        fm = self.table.fontMetrics()
+        rows = [st.branch_rows()[i] for i in st.shown_branches()] if st.branches else []
+        pad = 14
+
+        def widest(texts):
+            return max((fm.horizontalAdvance(t) for t in texts), default=0) + pad
+
+        move = words.move_cell(st.chain, st.q, st.q)[0].replace("0", "000.0").split("; ")
+        want = {
+            COL_NUMBER: widest([str(max(len(st.branches), 1)), "+00"]) + self.table.indentation(),
+            COL_LIMITS: min(widest([r.limits.partition(": ")[2] for r in rows] + ["yes", "NO"]), LIMIT_COL_MAX),
+            COL_MANIP: widest([p for r in rows for p in r.manip.split(" ", 1)] + ["0.0000e+00"]),
+            COL_MOVE: widest(move),
+        }
+        hh = self.table.header()
+        for c, w in want.items():
+            self.table.setColumnWidth(c, max(w, hh.sectionSizeFromContents(c).width()))
+        used = sum(self.table.columnWidth(c) for c in want)
+        # room as if the vertical scroll bar were shown: opening a configuration must not push "move" out
+        bar = self.table.verticalScrollBar()
+        room = self.table.width() - 2 * self.table.frameWidth() - max(bar.sizeHint().width(), 12)
+        self.table.setColumnWidth(COL_LABEL, max(LABEL_MIN, room - used))
 
     def resizeEvent(self, ev):
         super().resizeEvent(ev)
-        self.table.resizeRowsToContents()  # the label column's width changed: its wrapping too
+        self._fit_columns()
 
     def details_text(self, i: int) -> str:
-        """Branch ``i`` in one or two lines: verdict with every violation, family, singularity figures, largest move."""
+        """Branch ``i`` in one or two lines: verdict with every violation, family, singularity figures, moves,
+        distance and joint values (the CLI's numbers)."""
         st = self.state
         chain = st.chain
         b = st.branches[i]
-        s_level, s_words, kappa = self._metrics[i] if i < len(self._metrics) else ("ok", "", float("nan"))
+        info = st.branch_info(i)
+        row = st.branch_rows()[i]
         parts = [f"Branch {i + 1}"]
-        if not getattr(b, "reaches", True):
+        if not b.reaches:
             parts.append(words.miss_words(chain, b, bool(getattr(st.ik, "position_only", False))))
         if b.within_limits:
             parts.append("every joint within its limits")
@@ -362,8 +379,11 @@ class TargetPanel(QWidget):
         if b.family is not None:
             parts.append(report.family_words(chain, b.family))
         parts.append(f"manipulability {words.manipulability_text(chain, b.manipulability)}, condition "
-                     f"{words.fmt(kappa, 1)} ({s_words})")
+                     f"{report.condition_text(info.condition)} ({info.words})")
         parts.append(f"largest move from here: {words.largest_move(chain, st.q, b.q)}")
+        if b.distance_parts is not None:
+            parts.append(f"distance from the pose it was solved at: {report.distance_text(chain, b)}")
+        parts.append(f"joints [{joint_units(chain)}]: {row.joints}")
         return " · ".join(parts) + "."
 
     def _show_details(self) -> None:
@@ -374,39 +394,66 @@ class TargetPanel(QWidget):
             tip = f"move the arm to branch {st.selected + 1}"
             if not b.within_limits:
                 tip += " — BEYOND joint limits: " + "; ".join(words.violations_words(st.chain, b.violations))
-            if not getattr(b, "reaches", True):
+            if not b.reaches:
                 tip += " — it does not reach the target"
         self.apply_button.setToolTip(tip)
         i = st.hovered if st.hovered >= 0 else st.selected
         if 0 <= i < len(st.branches):
             self.details.setText(self.details_text(i))
             b = st.branches[i]
-            bad = not (b.within_limits and getattr(b, "reaches", True))
+            bad = not (b.within_limits and b.reaches)
             self.details.setStyleSheet(f"color: {palette.AT}" if bad else "")
         elif st.branches:
             self.details.setText("Hover or select a branch to see it in full and as a ghost; "
-                                 "Enter, double-click or 'Apply branch' moves the arm there.")
+                                 "Enter, double-click or 'Apply branch' moves the arm there; Ctrl+C copies its "
+                                 "joint values.")
             self.details.setStyleSheet(f"color: {palette.MUTED}")
         else:
             self.details.setText("")
 
-    def _refresh_moves(self) -> None:
-        """The largest-move column follows the arm (it is measured from the present pose)."""
-        st = self.state
-        for r, b in enumerate(st.branches):
-            item = self.table.item(r, 4)
-            if item is None:
-                continue
-            move = words.largest_move(st.chain, st.q, b.q)
-            item.setText(move.split(" by ", 1)[-1] if "; " not in move else move)
-            item.setToolTip(f"largest joint move from the present pose: {move}")
-        self._show_details()
-
     def _from_selection(self) -> None:
-        rows = {i.row() for i in self.table.selectedIndexes()}
-        r = min(rows) if rows else -1
-        self.state.select_branch(r, writer=self)
-        self.apply_button.setEnabled(r >= 0)
+        rows = self.table.selectionModel().selectedRows()
+        i = self.model.branch_of(rows[0]) if rows else -1
+        self.state.select_branch(i, writer=self)
+        self.apply_button.setEnabled(self.state.selected >= 0)
+        self.copy_button.setEnabled(self.state.selected >= 0)
+
+    def _select_in_view(self) -> None:
+        """Show the state's selection in the list (opening its configuration when it is a variant)."""
+        st = self.state
+        sm = self.table.selectionModel()
+        with QSignalBlocker(sm):
+            sm.clearSelection()
+            index = self.model.index_of(st.selected) if st.selected >= 0 else None
+            if index is not None and index.isValid():
+                if index.parent().isValid():
+                    self.table.expand(index.parent())
+                flags = QItemSelectionModel.SelectionFlag.ClearAndSelect | QItemSelectionModel.SelectionFlag.Rows
+                sm.setCurrentIndex(index, flags)
+                self.table.scrollTo(index)
+        self.table.viewport().update()
+
+    def select_branch(self, i: int) -> bool:
+        """Select branch ``i`` as a click on its row would (tests, keyboard scripts); False when it is not shown."""
+        index = self.model.index_of(i)
+        if not index.isValid():
+            return False
+        if index.parent().isValid():
+            self.table.expand(index.parent())
+        flags = QItemSelectionModel.SelectionFlag.ClearAndSelect | QItemSelectionModel.SelectionFlag.Rows
+        self.table.selectionModel().setCurrentIndex(index, flags)
+        return True
+
+    def copy_selected(self) -> str:
+        """Copy the selected (or hovered) branch's joint values as one line; returns the line ("" for none)."""
+        st = self.state
+        i = st.selected if st.selected >= 0 else st.hovered
+        if not 0 <= i < len(st.branches):
+            return ""
+        line = st.branch_rows()[i].copy
+        QGuiApplication.clipboard().setText(line)
+        self.last_copied = line
+        return line
 
     def apply_selected(self) -> bool:
         """Animate the arm to the selected branch; False when none is selected."""
@@ -419,32 +466,42 @@ class TargetPanel(QWidget):
     def eventFilter(self, obj, ev):
         if obj is self.table.viewport() and ev.type() == QEvent.Type.Leave:
             self.state.hover_branch(-1, writer=self)
-        enter = (Qt.Key.Key_Return, Qt.Key.Key_Enter)
-        if obj is self.table and ev.type() == QEvent.Type.KeyPress and ev.key() in enter:
-            self.apply_selected()
-            return True
+        if obj is self.table and ev.type() == QEvent.Type.KeyPress:
+            if ev.key() in (Qt.Key.Key_Return, Qt.Key.Key_Enter):
+                self.apply_selected()
+                return True
+            if ev.matches(QKeySequence.StandardKey.Copy):
+                self.copy_selected()
+                return True
         return super().eventFilter(obj, ev)
 
     def _on_state(self, field: str) -> None:
         st = self.state
         if field == "arm":
             self._units()
+            self.model.headerDataChanged.emit(Qt.Orientation.Horizontal, 0, self.model.columnCount() - 1)
             self._fill_table()
         elif field == "target":
             if st.writer is not self:
                 self._target_to_fields(st.target)
-            self._fill_table()
+            self._show_summary()
         elif field == "ik":
             self._fill_table()
         elif field == "selected":
             if st.writer is not self:
-                with QSignalBlocker(self.table):
-                    self.table.clearSelection()
-                    if st.selected >= 0:
-                        self.table.selectRow(st.selected)
-                self.apply_button.setEnabled(st.selected >= 0)
+                self._select_in_view()
+            self.apply_button.setEnabled(st.selected >= 0)
+            self.copy_button.setEnabled(st.selected >= 0)
             self._show_details()
         elif field == "hovered":
             self._show_details()
         elif field == "q" and st.branches:
-            self._refresh_moves()
+            self.model.moves_changed()
+            self._show_details()
+        elif field == "options":
+            on = bool(st.option("ghosts_within_limits_only"))
+            if self.within_only.isChecked() != on:
+                with QSignalBlocker(self.within_only):
+                    self.within_only.setChecked(on)
+            if on != self._filtered:
+                self._fill_table()

@@ -1,8 +1,12 @@
 """Words the window shows.  Every verdict's sentence and number comes from :mod:`poser.report` (the same as
-the command line's); this module adds only what is the window's own (joint-kind labels)."""
+the command line's); this module adds only what is the window's own: joint-kind labels, the branch list's
+cells (:func:`branch_rows`, made of report's texts), the warning of a point below the mounting plane."""
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
+from poser import report
 from poser.report import (  # noqa: F401 - the window's names for the shared wording
     LimitState,
     fmt,
@@ -31,3 +35,133 @@ def kind_words(kind: str, unit: str) -> tuple[str, str]:
     if kind == "revolute":
         return (f"rotary joint, {unit}", f"revolute joint: turns about its axis; its value is an angle in {unit}")
     return (f"linear joint, {unit}", f"prismatic joint: slides along its axis; its value is a length in {unit}")
+
+
+def below_mount_words(chain, found) -> str:
+    """The warning for what :func:`poser.ui.geometry.below_mount` found ("" for nothing below the plane).
+
+    ``found`` may be None/False/empty (nothing below), True, a text, an object with ``words``, or a sequence
+    of what is below: names, ``(name, depth)`` pairs (depth in the arm's length unit, > 0), or objects with
+    ``name`` and ``depth``.
+    """
+    if found is None or found is False:
+        return ""
+    head = "BELOW THE MOUNTING PLANE"
+    if found is True:
+        return f"{head}: part of the arm or tool"
+    if isinstance(found, str):
+        return f"{head}: {found}" if found else ""
+    if hasattr(found, "words"):
+        text = str(found.words)
+        return f"{head}: {text}" if text else ""
+    try:
+        items = list(found)
+    except TypeError:
+        return f"{head}: part of the arm or tool" if found else ""
+    parts = []
+    for it in items:
+        name, depth = None, None
+        if isinstance(it, str):
+            name = it
+        elif isinstance(it, (tuple, list)) and it:
+            name = it[0]
+            depth = it[1] if len(it) > 1 else None
+        else:
+            name, depth = getattr(it, "name", str(it)), getattr(it, "depth", None)
+        text = report.printable(name)
+        if depth is not None:
+            text += f" {report.length(chain, float(depth), 1)} below"
+        parts.append(text)
+    return f"{head}: {', '.join(parts)}" if parts else ""
+
+
+# -- the branch list's texts (no Qt: the solver's worker thread makes them) --------------------------
+
+
+
+def joints_line(chain, q, digits: int = 3) -> str:
+    """Joint values ``q`` (n,) internal units as one line in the arm's units: ``"86.048, -21.563, 0"``.
+
+    The digits of ``poser ik``'s table (three decimals; trailing zeros dropped).
+    """
+    return ", ".join(report.fmt(float(chain.joint_to_user(i, v)), digits) for i, v in enumerate(q))
+
+
+def joints_copy_line(chain, q) -> str:
+    """Joint values as one line to paste (``poser fk --joints …``, ``--near …``): six decimals, arm units."""
+    return ",".join(report.num(float(chain.joint_to_user(i, v))) for i, v in enumerate(q))
+
+
+def move_cell(chain, q_from, q_to) -> tuple[str, str]:
+    """(cell, tooltip) of the largest move: the size only (``"94 deg"``; turns and slides apart on a mixed
+    arm, ``"0.1 rad; 0.1 m"``), and :func:`poser.report.largest_move`'s whole words."""
+    move = report.largest_move(chain, q_from, q_to)
+    cell = "; ".join(part.split(" by ", 1)[-1] for part in move.split("; "))
+    return cell, move
+
+
+@dataclass(frozen=True)
+class BranchRow:
+    """Every text of one branch's row that does not depend on the present pose."""
+
+    number: int  # 1-based, the same number as ``poser ik`` and the ghost's label
+    label: str
+    label_tip: str
+    limits: str
+    limits_tip: str
+    within: bool
+    reaches: bool
+    manip: str
+    manip_tip: str
+    level: str  # singularity level: ok / near / at
+    joints: str
+    joints_tip: str
+    copy: str
+    configuration: str
+
+
+def branch_rows(chain, result, infos) -> tuple:
+    """A :class:`BranchRow` per branch of ``result`` (``infos``: :func:`poser.ui.state.branch_infos`)."""
+    P = report.printable
+    rows = []
+    position_only = bool(getattr(result, "position_only", False))
+    for k, (b, info) in enumerate(zip(result.branches, infos)):
+        label = P(b.label)
+        if not b.reaches:
+            label = f"{label} — {report.miss_words(chain, b, position_only)}"
+        tip = label
+        if b.family is not None:
+            label += " · family"
+            tip = f"{label}\n{report.family_words(chain, b.family)}"
+        if b.variants > 1:
+            tip += f"\n{b.variants} turn variants of this configuration are within limits"
+        manip = report.manipulability_text(chain, b.manipulability).split(" ")[0]
+        if info.level != "ok":
+            manip += " singular" if info.level == "at" else " near singular"
+        manip_tip = (f"manipulability {report.manipulability_text(chain, b.manipulability)}, condition "
+                     f"{report.condition_text(info.condition)}: {info.words}")
+        unit_names = [f"{P(n)} {report.joint_value(chain, i, v, 3)}" for i, (n, v) in enumerate(zip(chain.names, b.q))]
+        rows.append(BranchRow(
+            number=k + 1, label=label, label_tip=tip,
+            limits=report.limits_cell(chain, b),
+            limits_tip="; ".join(report.violations_words(chain, b.violations)) or "every joint within its limits",
+            within=bool(b.within_limits), reaches=bool(b.reaches),
+            manip=manip, manip_tip=manip_tip, level=info.level,
+            joints=joints_line(chain, b.q), joints_tip="\n".join(unit_names),
+            copy=joints_copy_line(chain, b.q), configuration=b.configuration,
+        ))
+    return tuple(rows)
+
+
+def group_branches(branches, shown) -> list[list[int]]:
+    """Branch indices grouped by configuration (turn variants together), in the order of their best member.
+
+    ``shown`` lists the branch indices to include (the list's filter).  Branches that do not reach are
+    never grouped with reaching ones.
+    """
+    groups: dict = {}
+    for i in shown:
+        b = branches[i]
+        key = (b.configuration, bool(b.reaches))
+        groups.setdefault(key, []).append(i)
+    return list(groups.values())

@@ -31,7 +31,9 @@ def test_the_editor_refuses_bad_input_with_the_loaders_message(make_window, tmp_
     assert any(p.message == expected for p in ed.problems)
     assert expected in ed.message.text()
     assert "Not applied" in ed.message.text()
-    assert win.state.chain == before and not win.state.dirty
+    # the arm stays as it was; the window is dirty (the editor shows an edit the file does not hold)
+    assert win.state.chain == before and win.state.dirty
+    assert [p.message for p in win.state.unapplied] == [p.message for p in ed.problems]
     np.testing.assert_array_equal(win.state.tool(), tool_before)
     # a second fault: limits the wrong way round
     ed.set_cell(1, "a", "700")
@@ -43,6 +45,7 @@ def test_the_editor_refuses_bad_input_with_the_loaders_message(make_window, tmp_
     # fixing it applies the arm and the view follows
     ed.set_cell(2, "min", "-120")
     assert ed.problems == [] and win.state.chain == before
+    assert win.state.unapplied == ()
 
 
 def test_a_valid_edit_is_live_in_the_view_and_marks_the_document(make_window):
@@ -112,6 +115,7 @@ def test_a_recovery_copy_keeps_unsaved_edits(make_window, heron_path, qtbot):
     win = make_window(heron_path)
     win.editor.set_cell(1, "a", "730")
     rec = win.recovery_file
+    assert win.recovery.flush(5.0)  # written on the recovery writer's thread
     assert rec.exists() and "a = 730" in rec.read_text(encoding="utf-8")
     assert "# Heron 6" in rec.read_text(encoding="utf-8")  # comments kept in the copy too
     # "crash": a new window on the same file is offered the copy

@@ -49,8 +49,11 @@ def test_typing_a_value_moves_only_that_joint_and_does_not_echo(make_window, qtb
     row = win.joints.rows[2]
     seen = []
     win.state.changed.connect(seen.append)
+    row.spin.setFocus()
     row.spin.selectAll()
     qtbot.keyClicks(row.spin, "35")
+    assert win.state.q_user[2] == pytest.approx(0.0)  # nothing applied while typing (see test_typing.py)
+    qtbot.keyClick(row.spin, Qt.Key.Key_Return)
     assert win.state.q_user[2] == pytest.approx(35.0)
     assert row.spin.value() == pytest.approx(35.0)
     assert row.slider.value() == row.value_to_slider(35.0)
@@ -153,3 +156,12 @@ def test_keyboard_reaches_every_panel(make_window, qtbot):
          ("target", win.target.xyz[0]), ("editor", win.editor.name)], start=1):
         qtbot.keyClick(win, Qt.Key(Qt.Key.Key_0 + k), modifier=Qt.KeyboardModifier.ControlModifier)
         qtbot.waitUntil(lambda w=widget: win.focusWidget() is w, timeout=2000)
+
+
+def test_control_characters_in_joint_names_are_shown_escaped(make_window):
+    win = make_window()
+    win.editor.set_cell(1, "name", "J2\tshoulder\u200b")
+    assert win.editor.problems == []
+    assert win.state.chain.names[1] == "J2\tshoulder\u200b"  # kept exactly
+    assert win.joints.rows[1].name.text() == "J2\\tshoulder\\u200b"
+    assert win.frames.link_combo.itemText(1) == "2: J2\\tshoulder\\u200b"

@@ -6,6 +6,7 @@ import re
 
 import numpy as np
 import pytest
+from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QAbstractButton, QLabel, QScrollArea
 from ui_common import ROOT, needs_ik
 
@@ -158,50 +159,48 @@ def test_the_status_bar_never_cuts_a_warning_silently(make_window, tmp_path):
 @needs_ik
 @pytest.mark.gui
 def test_branch_list_fits_its_panel_and_agrees_with_the_status_bar(make_window, qtbot):
+    from poser.ui.target_panel import LABEL_MIN
+
     win = make_window()
     win.state.set_q_user([20, 30, 20, 30, -40, 10])
     win.set_target_values([900, -300, 900, 180, 0, 0])
     qtbot.wait(50)
-    table = win.target.table
-    assert table.rowCount() > 6
-    # no sideways scrolling: every column inside the visible width, the label column has real room
-    widths = [table.columnWidth(c) for c in range(table.columnCount())]
-    assert sum(widths) <= table.viewport().width() + 1
-    assert table.horizontalScrollBar().maximum() == 0
-    assert widths[1] >= 180
-    # a wrapped label gets the row height it needs (no label is cut short)
-    for r in range(table.rowCount()):
-        label = table.item(r, 1).text()
-        needed = table.fontMetrics().boundingRect(0, 0, widths[1] - 8, 10_000,
-                                                   0x1000 | 0x0001, label).height()  # word wrap, align left
-        assert table.rowHeight(r) >= needed
-        assert table.item(r, 1).toolTip() == label
-    assert [table.horizontalHeaderItem(c).text() for c in range(5)] == [
-        "#", "branch", "limits", "manip.", "largest move"]
-    assert "manipulability" in table.horizontalHeaderItem(3).toolTip()
+    panel = win.target
+    table, model = panel.table, panel.model
     st = win.state
+    assert len(st.branches) > 6
+    # the label column has real room; every other column is as wide as its texts
+    assert table.columnWidth(1) >= LABEL_MIN
+    heads = [model.headerData(c, Qt.Orientation.Horizontal) for c in range(model.columnCount())]
+    assert heads == ["#", "branch / joints [deg]", "limits", "manip. [mm³]", "move"]
+    assert "manipulability" in model.headerData(3, Qt.Orientation.Horizontal, Qt.ItemDataRole.ToolTipRole)
+    fm = table.fontMetrics()
+    for r in range(len(st.branches)):
+        for c in (0, 3, 4):
+            for line in model.data(model.index_of(r, c)).split("\n"):
+                assert fm.horizontalAdvance(line) <= table.columnWidth(c), (r, c, line)
     # a failing branch names its worst joint in the list and every violation in the details line
     bad = next(r for r, b in enumerate(st.branches) if not b.within_limits)
-    cell = table.item(bad, 2).text()
+    cell = model.data(model.index_of(bad, 2))
     worst_joint = words.worst_violation(st.chain, st.branches[bad]).split(":")[0]
-    assert cell.startswith(f"NO: {worst_joint} ")
-    table.selectRow(bad)
-    details = win.target.details.text()
+    assert cell.startswith(f"NO\n{worst_joint} ")
+    panel.select_branch(bad)
+    details = panel.details.text()
     assert details.startswith(f"Branch {bad + 1} · BEYOND LIMITS: ")
     for v in words.violations_words(st.chain, st.branches[bad].violations):
         assert v in details
-    assert win.target.apply_button.toolTip().startswith(f"move the arm to branch {bad + 1} — BEYOND joint limits: ")
+    assert panel.apply_button.toolTip().startswith(f"move the arm to branch {bad + 1} — BEYOND joint limits: ")
     # apply a good branch: the status bar then shows the manipulability the list showed for it
     good = next(r for r, b in enumerate(st.branches) if b.within_limits)
-    table.selectRow(good)
-    listed = " ".join(table.item(good, 3).text().split()[:2])  # value and unit, as the status bar shows them
-    win.target.apply_selected()
+    panel.select_branch(good)
+    listed = model.data(model.index_of(good, 3)).split("\n")[0] + " mm³"  # the unit is in the header
+    panel.apply_selected()
     qtbot.waitUntil(lambda: np.allclose(st.q, st.branches[good].q), timeout=3000)
     assert re.search(r"manipulability (.+)$", win.status.singular.text()).group(1) == listed
     # the tooltip says what the figure is and its unit (six revolute joints: length cubed)
     assert "in mm³" in win.status.singular.toolTip()
     # after the move, the largest-move column is measured from the new pose
-    assert table.item(good, 4).text() == "0 deg"
+    assert model.data(model.index_of(good, 4)).split("\n")[0] == "0 deg"
 
 
 @needs_ik

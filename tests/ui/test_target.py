@@ -38,12 +38,13 @@ def test_typing_a_target_lists_the_same_branches_as_the_core(make_window, qtbot)
     R = rpy_to_matrix(np.radians([180.0, 0.0, 0.0]))
     np.testing.assert_allclose(st.target.R, R, atol=1e-12)
     core = solve(st.chain, np.array([900.0, -300.0, 900.0]), R, near=st.q)
-    table = win.target.table
-    assert table.rowCount() == len(core.branches) > 0
-    listed = [table.item(r, 1).text() for r in range(table.rowCount())]
-    assert listed == [b.label for b in core.branches]
+    model = win.target.model
+    assert len(st.branches) == len(core.branches) > 0
     for r, b in enumerate(core.branches):
-        assert table.item(r, 2).text().startswith("yes" if b.within_limits else "NO")
+        index = model.index_of(r, 1)
+        assert index.isValid() and model.branch_of(index) == r
+        assert model.data(index).split("\n")[0] == b.label
+        assert model.data(model.index_of(r, 2)).startswith("yes" if b.within_limits else "NO")
         np.testing.assert_allclose(st.branches[r].q, b.q, atol=1e-9)
     assert "within limits" in win.target.summary.text()
 
@@ -53,12 +54,12 @@ def test_hovering_previews_and_selecting_then_applying_poses_the_arm(make_window
     win.animator.duration = 0.15  # the real animation, kept short
     typed_target(win, qtbot, (900, -300, 900), (180, 0, 0))
     st = win.state
-    table = win.target.table
-    table.cellEntered.emit(1, 0)
+    panel = win.target
+    panel.table.entered.emit(panel.model.index_of(1))
     assert st.hovered == 1
     assert win.view.ghosts._strong._visible
     inside = next(r for r, b in enumerate(st.branches) if b.within_limits)
-    table.selectRow(inside)
+    panel.select_branch(inside)
     assert st.selected == inside
     assert win.target.apply_button.isEnabled()
     start = st.q
@@ -125,7 +126,7 @@ def test_applying_a_branch_beyond_a_limit_says_so(make_window, qtbot):
     st = win.state
     out = next(r for r, b in enumerate(st.branches) if not b.within_limits)
     worst = max(st.branches[out].violations, key=lambda v: v.excess)
-    win.target.table.selectRow(out)
+    win.target.select_branch(out)
     assert win.target.apply_selected()  # the animator jumps when the window asks no questions
     np.testing.assert_allclose(st.q, st.branches[out].q)
     row = win.joints.rows[worst.joint]

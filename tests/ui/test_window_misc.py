@@ -149,3 +149,24 @@ def test_window_icon_is_ours(tmp_path, qapp):
 
     assert run(args) == 0
     assert not QApplication.windowIcon().isNull()
+
+
+def test_the_guide_explains_units_families_closest_approach_up_and_saving():
+    html = guide.guide_html()
+    for panel in ("Mounting and 'up'", "Saving", "Manipulability and condition number"):
+        assert f"<h3>{panel}</h3>" in html
+    text = " ".join(t for _, t in guide.SECTIONS)
+    # manipulability has a unit and is 0 at a singularity; the condition number is the unitless figure
+    assert "shown with its unit" in text and "mm³" in text and "It is 0 at a singularity" in text
+    assert "The <i>condition number</i> is the figure without a unit" in text
+    assert "have no unit" not in text  # what the guide used to say of both
+    # families, turn variants, the closest approach and the nearest reachable point
+    assert "<i>family</i>" in text and "<i>turn variants</i>" in text
+    assert "<i>closest approach</i>" in text and "<i>nearest reachable point</i>" in text
+    # up on wall and ceiling mounts: the base frame's z, away from the mounting surface
+    assert "'Up' is the arm's base frame z axis: away from the surface the arm is mounted on" in text
+    # saving: changed on disk, recovery copies
+    assert "if another program changed it, Poser asks — reload it, overwrite it, or save as" in text
+    assert "recovery copy" in text and "cannot be written, a red notice says so" in text
+    # the cautions stay
+    assert "ISO 10218" in html and "plans nothing for a real robot" in html

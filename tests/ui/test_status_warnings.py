@@ -1,0 +1,130 @@
+"""Warnings a technician needs in the status bar: a point below the mounting plane (wired to the 3D view's
+``geometry.below_mount``), singularities by kind and joints; and each pose's products computed once."""
+
+from __future__ import annotations
+
+import os
+import subprocess
+import sys
+
+import numpy as np
+import pytest
+from ui_common import ROOT
+
+from poser import report
+from poser.ui import geometry, palette, words
+
+pytestmark = pytest.mark.gui
+
+
+def test_below_the_mounting_plane_is_a_warning_in_words_and_colour(make_window, monkeypatch):
+    seen = []
+
+    def below_mount(chain, drawing):
+        seen.append(drawing)
+        tool_z = float(drawing.frames[-1, 2, 3])
+        return [("tool", -tool_z)] if tool_z < 0 else []
+
+    monkeypatch.setattr(geometry, "below_mount", below_mount, raising=False)
+    win = make_window()
+    st = win.state
+    st.set_q_user([0, 0, 0, 0, 30, 0])
+    assert not win.status.mount.isVisibleTo(win.status)
+    assert seen and seen[-1] is st.drawing()  # the state's one drawing of the pose, not a copy of its own
+    st.set_q_user([0, 135, 0, 0, 90, 0])  # leaning far forward, wrist bent down: the tool dips under the floor
+    depth = -float(st.tool()[2, 3])
+    assert depth > 0
+    text = win.status.mount.text()
+    assert text == f"BELOW THE MOUNTING PLANE: tool {report.length(st.chain, depth, 1)} below"
+    assert win.status.mount.isVisibleTo(win.status)
+    assert palette.AT in win.status.mount.styleSheet()
+    st.set_q_user([0, 0, 0, 0, 30, 0])
+    assert not win.status.mount.isVisibleTo(win.status)
+
+
+def test_without_the_geometry_function_nothing_is_guessed(make_window, monkeypatch):
+    monkeypatch.delattr(geometry, "below_mount", raising=False)
+    win = make_window()
+    win.state.set_q_user([0, 135, 0, 0, 90, 0])
+    assert not win.status.mount.isVisibleTo(win.status) and win.status.mount.text() == ""
+
+
+@pytest.mark.parametrize("found, expected", [
+    (None, ""), (False, ""), ([], ""), (True, "BELOW THE MOUNTING PLANE: part of the arm or tool"),
+    (["J3 elbow", "tool"], "BELOW THE MOUNTING PLANE: J3 elbow, tool"),
+    ([("J3\telbow", 12.26)], "BELOW THE MOUNTING PLANE: J3\\telbow 12.3 mm below"),
+    ("the flange", "BELOW THE MOUNTING PLANE: the flange"),
+])
+def test_the_below_mount_words_take_what_the_geometry_gives(found, expected):
+    from poser import armfile
+
+    chain = armfile.load(ROOT / "demo_arms" / "heron6.toml").to_chain()
+    assert words.below_mount_words(chain, found) == expected
+
+
+def test_a_singularity_is_named_with_its_kind_and_joints(make_window):
+    win = make_window()
+    win.state.set_q_user([0, 30, 20, 0, 0, 0])  # J5 = 0: J4 and J6 on one line
+    text = win.status.singular.text()
+    assert text.startswith("AT A SINGULARITY: wrist axes aligned (joints 4 and 6)")
+    assert report.singularity_words(win.state.chain, win.state.singularity())[1] in win.status.singular.toolTip()
+    assert palette.AT in win.status.singular.styleSheet()
+
+
+def test_a_joint_change_computes_each_product_once(make_window, monkeypatch):
+    """With a target, ghosts and every panel live, one joint change: one singularity verdict, one set of limit
+    states, one set of frames, whoever reads them."""
+    import poser.core.singularity as sing
+
+    win = make_window()
+    win.set_target_values([900, -300, 900, 180, 0, 0])
+    st = win.state
+    counts = {"assess": 0, "limits": 0, "frames": 0}
+    real_assess, real_limits = sing.assess, report.limit_states
+    real_frames = type(st.chain).frames
+
+    def assess(*a, **k):
+        counts["assess"] += 1
+        return real_assess(*a, **k)
+
+    def limits(*a, **k):
+        counts["limits"] += 1
+        return real_limits(*a, **k)
+
+    def frames(self, *a, **k):
+        counts["frames"] += 1
+        return real_frames(self, *a, **k)
+
+    monkeypatch.setattr(sing, "assess", assess)
+    monkeypatch.setattr(report, "limit_states", limits)
+    monkeypatch.setattr(type(st.chain), "frames", frames)
+    st.set_joint_user(1, 35.0)
+    assert counts == {"assess": 1, "limits": 1, "frames": 1}
+    # the panels read the same objects
+    assert win.status.singularity_text()[1].startswith(report.singularity_words(st.chain, st.singularity(), True)[1])
+    np.testing.assert_array_equal(win.frames.matrix("tool"), st.frames()[-1])
+
+
+def test_no_window_module_of_ours_imports_scipy():
+    """scipy costs 0.36 s and 45 MiB at start; only the 3D view's geometry module may still pull it in."""
+    code = (
+        "import sys, traceback\n"
+        "class Spy:\n"
+        "    def find_spec(self, name, path=None, target=None):\n"
+        "        if name == 'scipy' and 'who' not in globals():\n"
+        "            globals()['who'] = [f.filename for f in traceback.extract_stack()]\n"
+        "        return None\n"
+        "sys.meta_path.insert(0, Spy())\n"
+        "import poser.ui.state, poser.ui.solver, poser.ui.target_panel, poser.ui.editor, poser.ui.status\n"
+        "import poser.ui.joints_panel, poser.ui.frames_panel, poser.ui.main_window, poser.ui.words\n"
+        "import poser.ui.tables, poser.ui.files, poser.ui.help, poser.ui.heartbeat\n"
+        "who = globals().get('who', [])\n"
+        "ours = [f for f in who if '/poser/' in f.replace(chr(92), '/')]\n"
+        "print(ours[-1] if ours else 'none')\n"
+    )
+    r = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, timeout=120,
+                       env={**os.environ, "QT_QPA_PLATFORM": "offscreen"})
+    assert r.returncode == 0, r.stderr[-800:]
+    first = r.stdout.strip()
+    # the innermost module of the package on the stack when scipy was first asked for
+    assert first == "none" or first.endswith("poser/ui/geometry.py"), first
