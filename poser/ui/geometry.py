@@ -288,7 +288,7 @@ class Plane:
         return -(np.asarray(points, float).reshape(-1, 3) - self.origin) @ self.normal
 
 
-PLANE_WORDS = {"floor": "below the floor", "base": "below the base plane", "mount": "behind the mount"}
+PLANE_WORDS = {"floor": "below the floor", "base": "below the base plane", "mount": "behind the mounting surface"}
 """Where a point is, for each kind of :class:`Plane` (a view label and the status bar say the same)."""
 
 

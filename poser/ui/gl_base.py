@@ -21,6 +21,10 @@ SEE_THROUGH = {
 }
 """GL state for closed translucent bodies (ghosts): blended, only the faces turned to the viewer."""
 
+FLAT_2D = {GL.GL_DEPTH_TEST: False, GL.GL_CULL_FACE: False}
+"""GL state before a QPainter draws over the scene: the face culling of the bodies drawn before it must
+not cull the painter's own triangles (plates and lines went missing when a culled mesh came last)."""
+
 
 def check_keywords(owner: str, kw: dict, required: tuple = (), optional: tuple = ()) -> None:
     """Raise PoserValueError unless ``kw`` has every ``required`` name and nothing but those and ``optional``."""

@@ -14,6 +14,7 @@ from PySide6.QtGui import QColor, QFontMetricsF, QPainter, QPen
 
 from poser.core.errors import PoserValueError
 from poser.ui import geometry, palette
+from poser.ui.gl_base import FLAT_2D
 from poser.ui.gl_labels import PLATE, label_font
 
 LETTERS = ("X", "Y", "Z")
@@ -31,6 +32,7 @@ class GLAxesGizmo(GLGraphicsItem.GLGraphicsItem):
     def __init__(self):
         super().__init__()
         self.setDepthValue(1001)
+        self.setGLOptions(dict(FLAT_2D))
         self.length = 26.0
         self.margin = 14.0
         self.font = label_font(9)
@@ -74,6 +76,7 @@ class GLAxesGizmo(GLGraphicsItem.GLGraphicsItem):
         if self.view() is None:
             return
         cx, cy = self.centre()
+        self.setupGLState()
         painter = QPainter(self.view())
         painter.setRenderHints(QPainter.RenderHint.Antialiasing | QPainter.RenderHint.TextAntialiasing)
         painter.setPen(QPen(QColor(palette.GRID), 1.0))

@@ -21,7 +21,7 @@ from PySide6.QtGui import QColor, QFont, QFontMetricsF, QMatrix4x4, QPainter, QP
 
 from poser.core.errors import PoserValueError
 from poser.ui import geometry, palette
-from poser.ui.gl_base import as_points
+from poser.ui.gl_base import FLAT_2D, as_points
 
 PLATE = QColor(250, 249, 244, 215)
 
@@ -106,6 +106,7 @@ class GLLabelLayer(GLGraphicsItem.GLGraphicsItem):
     def __init__(self):
         super().__init__()
         self.setDepthValue(1000)  # after the scene
+        self.setGLOptions(dict(FLAT_2D))
         self.entries: list[Label] = []
         self.merge_distance = 1e-9
         self.placed: list[Placed] = []
@@ -198,6 +199,7 @@ class GLLabelLayer(GLGraphicsItem.GLGraphicsItem):
         placed = self.layout()
         if not placed:
             return
+        self.setupGLState()
         painter = QPainter(self.view())
         painter.setRenderHints(QPainter.RenderHint.Antialiasing | QPainter.RenderHint.TextAntialiasing)
         lead = QPen(QColor(palette.MUTED))

@@ -386,3 +386,32 @@ def test_gl_items_refuse_bad_data_in_words(make_window):
         view.ghosts.setData(groups=[], radius=1.0, strong=3)
     with pytest.raises(PoserValueError, match="point must be finite"):
         view.nearest.setData(point=[np.nan, 0, 0], target=[0, 0, 0], size=1.0)
+
+
+@needs_ik
+def test_labels_and_gizmo_are_painted_whole_after_culled_bodies(make_window):
+    """A culled ghost mesh drawn last left face culling on, and the painter's plates and the gizmo's lines
+    went missing (Planar 3 with a position target: two see-through ghosts, no dashed ones)."""
+    from PySide6.QtGui import QColor
+
+    win = make_window(ROOT / "demo_arms" / "planar3.toml")
+    view = rendered(win)
+    aim(win, (500, 0, 900))
+    assert view.ghosts.solid and not view.ghosts.dashed
+    assert win.render_now()
+    img = view.view.grabFramebuffer()
+    dpr = img.width() / view.view.width()
+    cx, cy = view.gizmo.centre()
+    for letter, x1, y1, *_ in view.gizmo.layout():
+        colour = QColor({"X": "#D1404F", "Y": "#2F9A45", "Z": "#2D67D2"}[letter])
+        if np.hypot(x1 - cx, y1 - cy) < 10:
+            continue
+        hits = 0
+        for t in np.linspace(0.3, 0.9, 7):  # along the axis line
+            px = img.pixelColor(int((cx + t * (x1 - cx)) * dpr), int((cy + t * (y1 - cy)) * dpr))
+            off = abs(px.red() - colour.red()) + abs(px.green() - colour.green()) + abs(px.blue() - colour.blue())
+            hits += off < 90
+        assert hits >= 4, letter
+    plate = next(p for p in view.labels.layout() if p.text == "target")
+    px = img.pixelColor(int((plate.x + 1.5) * dpr), int((plate.y + plate.h / 2) * dpr))
+    assert px.red() >= 240 and px.green() >= 240  # the pale plate, not the scene behind it
