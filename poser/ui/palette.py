@@ -26,6 +26,10 @@ TRAIL = "#D2691E"
 TARGET = "#C0177A"
 GHOST = "#6A5ACD"
 GHOST_HOVER = "#3F2FB0"
+GHOST_OUT = "#7D5A6C"  # greyish mauve: a branch beyond a limit (also dashed, not only this colour)
+GHOST_OUT_HOVER = "#9C2B4E"
+MOUNT = "#7A776D"  # the mounting plate
+NEAREST = "#C98A00"  # the nearest reachable point (amber, as a "near" verdict)
 AXIS_X = "#D1404F"
 AXIS_Y = "#2F9A45"
 AXIS_Z = "#2D67D2"
@@ -44,3 +48,6 @@ def rgba(hex_text: str, alpha: float = 1.0) -> tuple[float, float, float, float]
 
 
 LEVEL_COLOURS = {"ok": OK, "near": NEAR, "at": AT, "beyond": AT}
+
+PLANE_COLOURS = {"floor": AT, "mount": AT, "base": NEAR}
+"""A part behind the floor or a wall/ceiling mount is red; below the top of a riser, amber."""

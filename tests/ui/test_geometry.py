@@ -164,3 +164,221 @@ def test_an_unreachable_result_is_explained_with_the_blocking_limit(heron):
     assert words.worst_violation(heron, b).split(":")[0] in text or res.reachable
     moved = heron.home + np.radians([0, 0, 30, 0, -45, 0])
     assert words.largest_move(heron, heron.home, moved) == "J5 wrist bend by 45 deg"
+
+
+# -- mounts, parts behind the floor, labels, ghosts (the 3D view's Qt-free helpers) -----------------
+
+
+def _remounted(xyz, rpy):
+    spec = armfile.load(HERON)
+    spec = spec.copy()
+    spec.base_xyz, spec.base_rpy = tuple(xyz), tuple(rpy)
+    return spec.to_chain()
+
+
+@pytest.fixture(scope="module")
+def ceiling():
+    """Heron 6 hung from a ceiling 2.5 m up: base z points down."""
+    return _remounted((0, 0, 2500), (180, 0, 0))
+
+
+@pytest.fixture(scope="module")
+def planar():
+    return armfile.load(ROOT / "demo_arms" / "planar3.toml").to_chain()
+
+
+def test_only_an_upright_raised_base_stands_on_a_riser(heron, ceiling, planar):
+    assert geometry.is_upright(heron.base) and not geometry.is_upright(ceiling.base)
+    assert not geometry.is_upright(planar.base)
+    for chain in (ceiling, planar):
+        d = geometry.arm_drawing(chain, chain.home)
+        assert 0 not in d.segment_link  # no riser
+        np.testing.assert_allclose(d.segments[0, 0], chain.base[:3, 3], atol=1e-9)  # starts at the mount
+    d = geometry.arm_drawing(heron, heron.home)
+    assert list(d.segment_link[:1]) == [0] and d.segment_link[-1] == heron.n + 1
+    assert np.all(np.diff(d.segment_link) >= 0)  # base to tool
+
+
+def test_a_ceiling_arms_plate_lies_on_its_mounting_plane(ceiling):
+    P = geometry.mount_plate(ceiling.base, ceiling.scale)
+    top = (P @ [0, 0, 1, 1])[:3]  # centre of the plate's top face (unit cylinder z = 1)
+    np.testing.assert_allclose(top, [0, 0, 2500], atol=1e-9)
+    normal = P[:3, 2] / np.linalg.norm(P[:3, 2])
+    np.testing.assert_allclose(normal, ceiling.base[:3, 2], atol=1e-12)
+    np.testing.assert_allclose(normal, [0, 0, -1], atol=1e-12)  # base z of rpy (180, 0, 0) is world −z
+    bottom = (P @ [0, 0, 0, 1])[:3]
+    assert bottom[2] > 2500  # the plate's thickness is in the ceiling, not under it
+    assert np.linalg.norm(P[:3, 0]) == pytest.approx(geometry.MOUNT_PLATE[0] * ceiling.scale)
+    hatch = geometry.mount_hatch(ceiling.base, ceiling.scale)
+    assert len(hatch) > 4
+    np.testing.assert_allclose(hatch[..., 2], 2500, atol=1e-9)  # on the ceiling plane
+    assert len(geometry.mount_hatch(np.eye(4), 1000.0)) == 0  # an upright base gets none
+
+
+def test_the_planes_an_arm_must_stay_clear_of(heron, ceiling, planar):
+    assert [p.name for p in geometry.mount_planes(heron)] == ["floor", "base"]
+    assert [p.name for p in geometry.mount_planes(ceiling)] == ["mount", "floor"]
+    assert [p.name for p in geometry.mount_planes(_remounted((0, 0, 0), (0, 0, 0)))] == ["floor"]
+    wall = geometry.mount_planes(planar)[0]
+    np.testing.assert_allclose(wall.normal, planar.base[:3, 2])
+    np.testing.assert_allclose(wall.origin, [0, 0, 1200])
+    assert set(geometry.PLANE_WORDS) == {p.name for c in (heron, ceiling) for p in geometry.mount_planes(c)}
+
+
+def test_below_mount_finds_a_link_under_the_floor_with_its_depth(heron):
+    q = heron.q_from_user(np.array([0, 110, 20, 0, 60, 0.0]))  # leaning far forward and down
+    d = geometry.arm_drawing(heron, q)
+    parts = geometry.below_mount(heron, d)
+    floor = dict(parts)
+    F = heron.frames(q)
+    wrist = F[4, :3, 3]  # Heron's wrist centre (frames 4 and 5)
+    assert wrist[2] < 0
+    assert floor["J4 forearm roll"] == pytest.approx(-wrist[2])  # the forearm ends at the wrist centre
+    tool = heron.fk(q)[:3, 3]
+    flange, z6 = F[6, :3, 3], F[6, :3, 2]
+    corner = flange + np.dot(tool - flange, z6) * z6  # the tool is drawn along the flange's z, then across
+    assert floor["tool"] == pytest.approx(max(-tool[2], -flange[2], -corner[2]))  # its deepest point
+    assert all(b.plane == "floor" for b in parts) and all(b.depth > 0 for b in parts)
+    assert "J1 turret" not in floor and "base" not in floor
+    # the same pose from its frames alone: frame origins only
+    by_frames = dict(geometry.below_mount(heron, F))
+    assert by_frames["J4 forearm roll"] == pytest.approx(-wrist[2])
+    assert by_frames["tool"] == pytest.approx(-tool[2])
+    # ready pose: nothing below
+    assert geometry.below_mount(heron, geometry.arm_drawing(heron, heron.home)) == []
+
+
+def test_below_the_riser_top_is_its_own_plane(heron):
+    q = heron.q_from_user(np.array([0, 100, 40, 0, 60, 0.0]))
+    parts = geometry.below_mount(heron, geometry.arm_drawing(heron, q))
+    assert parts and {b.plane for b in parts} == {"base"}
+    wrist = heron.frames(q)[4, :3, 3]
+    assert 0 < wrist[2] < 300
+    assert dict(parts)["J4 forearm roll"] == pytest.approx(300 - wrist[2])
+    marks = geometry.below_marks(heron, parts)
+    assert len(marks) == 1 and marks[0][2] == "base"
+    assert marks[0][1] == f"J4 forearm roll: {300 - wrist[2]:.3f}".rstrip("0").rstrip(".") \
+        + " mm below the base plane"
+
+
+def test_a_ceiling_arm_reaching_up_is_behind_its_mount(ceiling):
+    # J2 = 110 deg swings the upper arm up past the base plane (towards the ceiling: base z is world −z)
+    q = ceiling.q_from_user(np.array([0, 110, 20, 0, 60, 0.0]))
+    parts = geometry.below_mount(ceiling, geometry.arm_drawing(ceiling, q))
+    assert parts and {b.plane for b in parts} == {"mount"}
+    wrist = ceiling.frames(q)[4, :3, 3]
+    assert dict(parts)["J4 forearm roll"] == pytest.approx(wrist[2] - 2500)
+
+
+def test_below_pieces_are_cut_at_the_plane(heron):
+    q = heron.q_from_user(np.array([0, 110, 20, 0, 60, 0.0]))
+    d = geometry.arm_drawing(heron, q)
+    pieces = dict(geometry.below_pieces(heron, d))
+    floor = pieces["floor"]
+    assert len(floor) and np.all(floor[..., 2] <= 1e-9)
+    assert np.isclose(floor[..., 2], 0, atol=1e-9).any()  # a piece starts where its link crosses the floor
+    assert np.all(pieces["base"][..., 2] <= 300 + 1e-9)
+
+
+def test_below_mount_refuses_frames_of_another_shape(heron):
+    from poser.core.errors import PoserValueError
+
+    with pytest.raises(PoserValueError, match=r"shape \(8, 4, 4\), got shape \(3, 4, 4\)"):
+        geometry.below_mount(heron, np.tile(np.eye(4), (3, 1, 1)))
+
+
+def test_coinciding_points_group_and_numbers_list_as_runs():
+    pts = [[0, 0, 0], [5, 0, 0], [0, 0, 1e-4], [5, 1e-4, 0], [9, 9, 9]]
+    assert geometry.coinciding_groups(pts, 1e-3) == [[0, 2], [1, 3], [4]]
+    assert geometry.number_list([1, 3, 4, 5, 8, 2]) == "1–5, 8"
+    assert geometry.number_list([7, 11]) == "7, 11"
+    assert geometry.number_list([4, 5]) == "4, 5"
+    assert geometry.number_list([]) == ""
+
+
+def _overlap(a, b):
+    return a[0] < b[0] + b[2] and b[0] < a[0] + a[2] and a[1] < b[1] + b[3] and b[1] < a[1] + a[3]
+
+
+def test_labels_at_one_point_are_placed_apart_most_important_first():
+    boxes = [(100, 100, 40, 14, 10), (100, 100, 40, 14, 40), (102, 101, 30, 14, 20), (500, 300, 50, 14, 0)]
+    spots = geometry.place_labels(boxes, 640, 480)
+    assert spots[1] == (102.0, 84.0)  # the highest priority gets the wanted place: above right of its point
+    rects = [(x, y, b[2], b[3]) for (x, y), b in zip(spots, boxes)]
+    assert not any(_overlap(rects[i], rects[j]) for i in range(4) for j in range(i + 1, 4))
+    for x, y, w, h in rects:
+        assert 0 <= x and x + w <= 640 and 0 <= y and y + h <= 480
+    # no room left near a crowded point: the least important label is left out, never drawn over another
+    crowd = [(50, 50, 200, 30, 10 - k) for k in range(40)]
+    out = geometry.place_labels(crowd, 300, 200)
+    assert out[0] is not None and None in out
+    placed = [(x, y, 200, 30) for s in out if s is not None for x, y in [s]]
+    assert not any(_overlap(placed[i], placed[j]) for i in range(len(placed)) for j in range(i + 1, len(placed)))
+
+
+def test_dashes_follow_the_path_with_their_pattern():
+    segs = np.array([[[0, 0, 0], [10, 0, 0]], [[10, 0, 0], [10, 10, 0]]], float)
+    dashes = geometry.dash_segments(segs, 2.0, 1.0)
+    lengths = np.linalg.norm(dashes[:, 1] - dashes[:, 0], axis=1)
+    # 20 long with a period of 3: dashes cover 2/3 of it, give or take a cut dash at each end
+    assert lengths.sum() == pytest.approx(14.0, abs=2.0)
+    assert np.all(lengths <= 2.0 + 1e-12)
+    on_path = (np.isclose(dashes[..., 1], 0) | np.isclose(dashes[..., 0], 10))
+    assert on_path.all()
+
+
+def test_the_gizmo_turns_the_world_axes_as_the_camera_does():
+    # a camera looking along world −x with z up (a front view): +y to the right, +z up, +x at the viewer
+    R = np.array([[0.0, 1.0, 0.0], [0.0, 0.0, 1.0], [1.0, 0.0, 0.0]])  # world → eye rows: right, up, towards
+    axes = {a: (dx, dy, depth) for a, dx, dy, depth in geometry.gizmo_axes(R)}
+    assert axes[1][:2] == (1.0, 0.0) and axes[2][:2] == (0.0, 1.0) and axes[0][2] == 1.0
+    assert [a for a, *_ in geometry.gizmo_axes(R)][-1] == 0  # nearest is drawn last
+
+
+def test_batched_body_transforms_match_the_single_ones():
+    rng = np.random.default_rng(7)
+    p0, p1 = rng.normal(size=(5, 3)), rng.normal(size=(5, 3))
+    p1[2] = p0[2]  # a zero-length piece is left out
+    T = geometry.segment_transforms(p0, p1, 0.3)
+    single = [geometry.segment_transform(a, b, 0.3) for a, b in zip(p0, p1)]
+    np.testing.assert_allclose(T, [s for s in single if s is not None], atol=1e-12)
+    o, z = rng.normal(size=(4, 3)), rng.normal(size=(4, 3))
+    np.testing.assert_allclose(geometry.axis_body_transforms(o, z, 0.2, 1.5),
+                               [geometry.axis_body_transform(a, b, 0.2, 1.5) for a, b in zip(o, z)], atol=1e-12)
+
+
+class _Branch:
+    def __init__(self, q, within=True):
+        self.q, self.within_limits = np.asarray(q, float), within
+
+
+def test_ghost_groups_merge_look_alikes_on_the_same_side_of_the_limits(heron):
+    q = heron.q_from_user(np.array([10, 20, 30, 40, 50, 60.0]))
+    turned = q.copy()
+    turned[5] += 2 * np.pi
+    elbow = heron.q_from_user(np.array([10, 60, -40, 40, 50, 60.0]))
+    branches = [_Branch(q), _Branch(elbow), _Branch(turned), _Branch(turned, within=False)]
+    groups, index = geometry.ghost_groups(heron, branches)
+    assert index == [0, 1, 0, 2]
+    assert groups[0].rows == (0, 2) and groups[2].rows == (3,) and not groups[2].within_limits
+    # row numbers sit where the ghosts differ most: not on the shared tool point
+    for g in groups[:2]:
+        assert np.linalg.norm(g.anchor - g.drawing.frames[-1, :3, 3]) > 0.1 * heron.scale
+    assert np.linalg.norm(groups[0].anchor - groups[1].anchor) > 0.1 * heron.scale
+    from poser.core.errors import PoserValueError
+
+    with pytest.raises(PoserValueError, match=r"branch 0's q must have shape \(6,\)"):
+        geometry.ghost_groups(heron, [_Branch(np.zeros(4))])
+
+
+def test_the_ghost_cache_keeps_groups_per_result_and_drops_another_arms(heron, planar):
+    class Result:
+        def __init__(self, branches):
+            self.branches = branches
+
+    r = Result([_Branch(heron.home)])
+    cache = geometry.GhostCache()
+    groups, index = cache.get(heron, r)
+    assert cache.get(heron, r)[0] is groups and index == [0]
+    assert cache.strong(-1, 0) == 0 and cache.strong(-1, -1) == -1 and cache.strong(5, -1) == -1
+    assert cache.get(planar, r) == ([], [])  # a Heron result while Planar 3 is shown: no ghosts, no error
