@@ -111,10 +111,6 @@ class TargetSolver(QObject):
         state.changed.connect(self._on_state)
 
     @property
-    def available(self) -> bool:
-        return ikbridge.available()
-
-    @property
     def pending(self) -> bool:
         """A request is waiting (debounce or queue) or running."""
         return self.timer.isActive() or self._running is not None or self._next is not None
@@ -131,7 +127,7 @@ class TargetSolver(QObject):
         self._number += 1  # whatever is in flight now answers an old question
         self._next = None
         st = self.state
-        if st.target is not None and st.option("live_solve") and ikbridge.available():
+        if st.target is not None and st.option("live_solve"):
             self.timer.start()
         else:
             self.timer.stop()
@@ -139,7 +135,7 @@ class TargetSolver(QObject):
 
     def _job(self) -> SolveJob | None:
         st = self.state
-        if st.target is None or not ikbridge.available():
+        if st.target is None:
             return None
         self._number += 1
         return SolveJob(self._number, st.chain, st.target, st.q, st.arm_generation)

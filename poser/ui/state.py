@@ -309,6 +309,11 @@ class PoseState(QObject):
     def drawing(self) -> geometry.ArmDrawing:
         return self._cached("drawing", lambda: geometry.arm_drawing(self._chain, self._q))
 
+    def below_mount(self) -> list:
+        """The parts of the pose behind the floor or the mount (:func:`poser.ui.geometry.below_mount`), once
+        per pose for the views and the status bar."""
+        return self._cached("below_mount", lambda: geometry.below_mount(self._chain, self.drawing()))
+
     def singularity(self):
         """The pose's singularity verdict (:class:`poser.core.singularity.Singularity`: level, condition,
         manipulability, kinds with their joints)."""

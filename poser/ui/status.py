@@ -8,20 +8,9 @@ from PySide6.QtCore import QTimer, Signal
 from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel, QPushButton, QSizePolicy, QStatusBar, QVBoxLayout, QWidget
 
 from poser import report
-from poser.ui import geometry, palette, words
+from poser.ui import palette, words
 from poser.ui.elided import ElidedLabel
 from poser.ui.state import PoseState
-
-
-def below_mount_check(state: PoseState):
-    """What :func:`poser.ui.geometry.below_mount` says of the present pose (None while that function is missing).
-
-    It is the 3D view's geometry (``below_mount(chain, drawing)``); the status bar only words its answer.
-    """
-    fn = getattr(geometry, "below_mount", None)
-    if fn is None:
-        return None
-    return state._cached("below_mount", lambda: fn(state.chain, state.drawing()))
 
 
 class NoticeBar(QWidget):
@@ -163,7 +152,7 @@ class PoseStatusBar(QStatusBar):
             f"infinite at a singularity; above 80 Poser warns).\n{report.manipulability_tip(st.chain)}"
         )
         self._style(self.singular, level)
-        below = words.below_mount_words(st.chain, below_mount_check(st))
+        below = words.below_mount_words(st.chain, st.below_mount())
         self.mount.setVisible(bool(below))
         if below:
             self.mount.setText(below)

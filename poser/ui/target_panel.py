@@ -26,7 +26,7 @@ from PySide6.QtWidgets import (
 )
 
 from poser import report
-from poser.ui import geometry, ikbridge, palette, words
+from poser.ui import geometry, palette, words
 from poser.ui.animate import JointAnimator
 from poser.ui.solver import TargetSolver
 from poser.ui.state import PoseState, Target
@@ -187,8 +187,6 @@ class TargetPanel(QWidget):
         self.last_copied = ""
         self._filtered = bool(state.option("ghosts_within_limits_only"))
         self._fill_table()
-        if not ikbridge.available():
-            self._say("near", f"Targets are shown, but {ikbridge.IK_MISSING}.")
 
     @staticmethod
     def _spin(decimals: int) -> QDoubleSpinBox:
@@ -307,9 +305,7 @@ class TargetPanel(QWidget):
         if st.target is None:
             level, text = "ok", "No target. Type a tool pose above or press 'Take current pose'."
         elif st.ik is None:
-            if not ikbridge.available():
-                level, text = "near", f"Not solved: {ikbridge.IK_MISSING}."
-            elif self.solver.last_error and not self.solver.pending:
+            if self.solver.last_error and not self.solver.pending:
                 level, text = "at", self.solver.last_error
             else:
                 level, text = "ok", "Solving…"

@@ -190,7 +190,7 @@ class View2D(QWidget):
         corners = np.array([plate[:3, 3] + plate[:3, 2] + sx * plate[:3, 0] + sy * plate[:3, 1]
                             for sx, sy in ((-1, -1), (1, -1), (1, 1), (-1, 1), (-1, -1))])
         hatch = self._polyline(geometry.mount_hatch(st.chain.base, st.scale))
-        self.below_parts = geometry.below_mount(st.chain, d)
+        self.below_parts = st.below_mount()
         pieces = [s for _, s in geometry.below_pieces(st.chain, d)] if self.below_parts else []
         below = self._polyline(np.concatenate(pieces)) if pieces else np.zeros((0, 3))
         marks = geometry.below_marks(st.chain, self.below_parts)

@@ -371,7 +371,7 @@ class View3D(QWidget):
 
     def _draw_below(self, d) -> None:
         st = self.state
-        self.below_parts = geometry.below_mount(st.chain, d)
+        self.below_parts = st.below_mount()
         marks = geometry.below_marks(st.chain, self.below_parts)
         self.below.setData(pieces=geometry.below_pieces(st.chain, d) if self.below_parts else [], marks=marks,
                            radius=1.25 * self.radius)

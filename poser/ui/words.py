@@ -37,42 +37,26 @@ def kind_words(kind: str, unit: str) -> tuple[str, str]:
     return (f"linear joint, {unit}", f"prismatic joint: slides along its axis; its value is a length in {unit}")
 
 
-def below_mount_words(chain, found) -> str:
-    """The warning for what :func:`poser.ui.geometry.below_mount` found ("" for nothing below the plane).
+BELOW_HEADS = {"floor": "BELOW THE FLOOR", "mount": "BEHIND THE MOUNTING SURFACE"}
+"""The status bar's head for parts behind each plane that a real arm would hit (see geometry.PLANE_WORDS)."""
 
-    ``found`` may be None/False/empty (nothing below), True, a text, an object with ``words``, or a sequence
-    of what is below: names, ``(name, depth)`` pairs (depth in the arm's length unit, > 0), or objects with
-    ``name`` and ``depth``.
+
+def below_mount_words(chain, found) -> str:
+    """The status bar's warning for what :func:`poser.ui.geometry.below_mount` found ("" when clear).
+
+    Only the floor and a wall or ceiling mount count here: a part below the top of a riser (plane
+    ``"base"``) is only marked in the 3D view.  Each part is named with its depth and plane, in the words
+    the view's label uses: ``"BELOW THE FLOOR: tool 85.2 mm below the floor"``.
     """
-    if found is None or found is False:
+    from poser.ui.geometry import PLANE_WORDS
+
+    hits = [b for b in (found or ()) if getattr(b, "plane", "floor") in BELOW_HEADS]
+    if not hits:
         return ""
-    head = "BELOW THE MOUNTING PLANE"
-    if found is True:
-        return f"{head}: part of the arm or tool"
-    if isinstance(found, str):
-        return f"{head}: {found}" if found else ""
-    if hasattr(found, "words"):
-        text = str(found.words)
-        return f"{head}: {text}" if text else ""
-    try:
-        items = list(found)
-    except TypeError:
-        return f"{head}: part of the arm or tool" if found else ""
-    parts = []
-    for it in items:
-        name, depth = None, None
-        if isinstance(it, str):
-            name = it
-        elif isinstance(it, (tuple, list)) and it:
-            name = it[0]
-            depth = it[1] if len(it) > 1 else None
-        else:
-            name, depth = getattr(it, "name", str(it)), getattr(it, "depth", None)
-        text = report.printable(name)
-        if depth is not None:
-            text += f" {report.length(chain, float(depth), 1)} below"
-        parts.append(text)
-    return f"{head}: {', '.join(parts)}" if parts else ""
+    planes = {b.plane for b in hits}
+    head = BELOW_HEADS[planes.pop()] if len(planes) == 1 else "BEHIND THE FLOOR AND THE MOUNTING SURFACE"
+    parts = [f"{report.printable(b.what)} {report.length(chain, b.depth, 1)} {PLANE_WORDS[b.plane]}" for b in hits]
+    return f"{head}: {', '.join(parts)}"
 
 
 # -- the branch list's texts (no Qt: the solver's worker thread makes them) --------------------------

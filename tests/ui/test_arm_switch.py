@@ -6,7 +6,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from PySide6.QtCore import QPoint
-from ui_common import DEMO, copy_demo, needs_ik
+from ui_common import DEMO, copy_demo
 
 from poser.ui.state import Target
 
@@ -15,7 +15,6 @@ pytestmark = pytest.mark.gui
 
 
 
-@needs_ik
 def test_opening_an_arm_in_metres_converts_a_target_in_millimetres(make_window, tmp_path, qtbot):
     win = make_window()
     st = win.state
@@ -42,7 +41,6 @@ def test_opening_an_arm_in_metres_converts_a_target_in_millimetres(make_window, 
     np.testing.assert_allclose(st.ik.xyz, [1.2, 0.0, 0.9])
 
 
-@needs_ik
 def test_adding_and_removing_joints_with_a_target_set_keeps_every_panel_consistent(make_window, qtbot):
     win = make_window()
     st = win.state

@@ -9,13 +9,13 @@ import numpy as np
 import pytest
 from PySide6.QtCore import Qt
 from PySide6.QtTest import QTest
-from ui_common import copy_demo, needs_ik
+from ui_common import copy_demo, wide_heron
 
 from poser import report
 from poser.cli import main as cli_main
 from poser.ui.tables import COL_LABEL, COL_LIMITS, COL_MANIP, COL_MOVE, COL_NUMBER, BranchModel
 
-pytestmark = [pytest.mark.gui, needs_ik]
+pytestmark = [pytest.mark.gui]
 
 
 
@@ -39,14 +39,14 @@ def all_rows(model: BranchModel):
     return out
 
 
-def test_the_ninety_branch_target_is_one_model_grouped_by_configuration(make_window, tmp_path, record_property):
-    win = make_window(copy_demo("wren6.toml", tmp_path))
+def test_a_long_branch_list_is_one_model_grouped_by_configuration(make_window, tmp_path, record_property):
+    win = make_window(wide_heron(tmp_path))
     panel = win.target
     assert isinstance(panel.table.model(), BranchModel)
-    win.set_target_values([0, 0, 1500, 0, 0, 0])
+    win.set_target_values([900, -300, 900, 180, 0, 0])
     st = win.state
     n = len(st.branches)
-    assert n >= 90
+    assert n > 30
     model = panel.model
     rows = all_rows(model)
     assert sorted(i for _, i in rows) == list(range(n))  # every branch once
@@ -68,8 +68,8 @@ def test_the_ninety_branch_target_is_one_model_grouped_by_configuration(make_win
 
 
 def test_every_row_hovers_and_selects_its_branch_children_too(make_window, tmp_path, qtbot):
-    win = make_window(copy_demo("wren6.toml", tmp_path))
-    win.set_target_values([0, 0, 1500, 0, 0, 0])
+    win = make_window(wide_heron(tmp_path))
+    win.set_target_values([900, -300, 900, 180, 0, 0])
     st, panel = win.state, win.target
     model = panel.model
     for index, i in all_rows(model):
@@ -94,6 +94,18 @@ def test_every_row_hovers_and_selects_its_branch_children_too(make_window, tmp_p
     assert panel.table.isExpanded(model.index(0, 0))
     QTest.keyClick(panel.table, Qt.Key.Key_Down)
     assert st.selected == model.branch_of(model.index(0, 0, model.index(0, 0)))
+
+
+def test_a_singular_target_lists_each_family_once(make_window, tmp_path):
+    """Wren 6 with the tool pointing up the base axis: the base turn and the spindle turn share one line,
+    so each of the four configurations is one family (base turn free, spindle following) — one row each."""
+    win = make_window(copy_demo("wren6.toml", tmp_path))
+    win.set_target_values([0, 0, 1500, 0, 0, 0])
+    st, model = win.state, win.target.model
+    assert len(st.branches) == 4 and all(b.family is not None for b in st.branches)
+    assert len(all_rows(model)) == 4 and model.rowCount() == 4
+    labels = [model.data(model.index_of(i, COL_LABEL)).split("\n")[0] for i in range(4)]
+    assert all(lab.endswith(" · family") for lab in labels)
 
 
 def test_a_family_is_one_row(make_window, tmp_path):

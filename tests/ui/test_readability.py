@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QAbstractButton, QLabel, QScrollArea
-from ui_common import ROOT, needs_ik
+from ui_common import ROOT
 
 from poser import armfile
 from poser.ui import geometry, palette, words
@@ -156,7 +156,6 @@ def test_the_status_bar_never_cuts_a_warning_silently(make_window, tmp_path):
         assert w.shown_text() == w.text() or w.shown_text().endswith("…")
 
 
-@needs_ik
 @pytest.mark.gui
 def test_branch_list_fits_its_panel_and_agrees_with_the_status_bar(make_window, qtbot):
     from poser.ui.target_panel import LABEL_MIN
@@ -203,7 +202,6 @@ def test_branch_list_fits_its_panel_and_agrees_with_the_status_bar(make_window, 
     assert model.data(model.index_of(good, 4)).split("\n")[0] == "0 deg"
 
 
-@needs_ik
 @pytest.mark.gui
 def test_the_summary_is_short_and_the_solver_message_is_kept_in_its_tooltip(make_window, qtbot):
     win = make_window()
@@ -243,7 +241,6 @@ def test_the_three_view_axes_read_in_the_arms_own_unit(make_window, monkeypatch,
             assert axis.autoSIPrefix is False and axis.autoSIPrefixScale == 1.0  # ticks are metres, not mm
 
 
-@needs_ik
 @pytest.mark.gui
 def test_a_short_arm_given_an_orientation_is_told_to_try_position_only(make_window, tmp_path, qtbot):
     import shutil

@@ -11,13 +11,13 @@ import time
 
 import numpy as np
 import pytest
-from ui_common import DEMO, copy_demo, needs_ik
+from ui_common import DEMO, copy_demo
 
 from poser import armfile
 from poser.ui import ikbridge, solver
 from poser.ui.state import Target
 
-pytestmark = [pytest.mark.gui, needs_ik]
+pytestmark = [pytest.mark.gui]
 
 
 

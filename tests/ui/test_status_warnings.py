@@ -17,45 +17,40 @@ from poser.ui import geometry, palette, words
 pytestmark = pytest.mark.gui
 
 
-def test_below_the_mounting_plane_is_a_warning_in_words_and_colour(make_window, monkeypatch):
-    seen = []
-
-    def below_mount(chain, drawing):
-        seen.append(drawing)
-        tool_z = float(drawing.frames[-1, 2, 3])
-        return [("tool", -tool_z)] if tool_z < 0 else []
-
-    monkeypatch.setattr(geometry, "below_mount", below_mount, raising=False)
+def test_below_the_floor_is_a_warning_in_words_and_colour(make_window):
     win = make_window()
     st = win.state
     st.set_q_user([0, 0, 0, 0, 30, 0])
-    assert not win.status.mount.isVisibleTo(win.status)
-    assert seen and seen[-1] is st.drawing()  # the state's one drawing of the pose, not a copy of its own
+    assert st.below_mount() == [] and not win.status.mount.isVisibleTo(win.status)
     st.set_q_user([0, 135, 0, 0, 90, 0])  # leaning far forward, wrist bent down: the tool dips under the floor
-    depth = -float(st.tool()[2, 3])
-    assert depth > 0
+    found = st.below_mount()
+    assert found is st.below_mount()  # once per pose: the views and the status bar share it
+    tool = [b for b in found if b.what == "tool"]
+    assert tool and tool[0].plane == "floor"
+    # the tool's depth is that of its deepest point: at least the tool point's, read from forward kinematics
+    tool_z = float(st.tool()[2, 3])
+    assert tool_z < 0 and tool[0].depth >= -tool_z - 1e-9
     text = win.status.mount.text()
-    assert text == f"BELOW THE MOUNTING PLANE: tool {report.length(st.chain, depth, 1)} below"
+    assert text.startswith("BELOW THE FLOOR: ")
+    assert f"tool {report.length(st.chain, tool[0].depth, 1)} below the floor" in text
     assert win.status.mount.isVisibleTo(win.status)
     assert palette.AT in win.status.mount.styleSheet()
     st.set_q_user([0, 0, 0, 0, 30, 0])
     assert not win.status.mount.isVisibleTo(win.status)
 
 
-def test_without_the_geometry_function_nothing_is_guessed(make_window, monkeypatch):
-    monkeypatch.delattr(geometry, "below_mount", raising=False)
-    win = make_window()
-    win.state.set_q_user([0, 135, 0, 0, 90, 0])
-    assert not win.status.mount.isVisibleTo(win.status) and win.status.mount.text() == ""
+def _below(what, depth, plane):
+    return geometry.Below(what, depth, plane, np.zeros(3))
 
 
 @pytest.mark.parametrize("found, expected", [
-    (None, ""), (False, ""), ([], ""), (True, "BELOW THE MOUNTING PLANE: part of the arm or tool"),
-    (["J3 elbow", "tool"], "BELOW THE MOUNTING PLANE: J3 elbow, tool"),
-    ([("J3\telbow", 12.26)], "BELOW THE MOUNTING PLANE: J3\\telbow 12.3 mm below"),
-    ("the flange", "BELOW THE MOUNTING PLANE: the flange"),
+    (None, ""), ([], ""),
+    ([_below("base", 5.0, "base")], ""),  # below a riser's top only: marked in the view, no status warning
+    ([_below("J3 elbow", 12.26, "floor"), _below("tool", 40.0, "floor")],
+     "BELOW THE FLOOR: J3 elbow 12.3 mm below the floor, tool 40 mm below the floor"),
+    ([_below("J3\telbow", 1.0, "mount")], "BEHIND THE MOUNTING SURFACE: J3\\telbow 1 mm behind the mounting surface"),
 ])
-def test_the_below_mount_words_take_what_the_geometry_gives(found, expected):
+def test_the_below_mount_words_say_the_views_words(found, expected):
     from poser import armfile
 
     chain = armfile.load(ROOT / "demo_arms" / "heron6.toml").to_chain()

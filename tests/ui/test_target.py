@@ -5,12 +5,11 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from PySide6.QtCore import Qt
-from ui_common import needs_ik
 
 from poser.core.transforms import rpy_to_matrix
 from poser.ui import geometry
 
-pytestmark = [pytest.mark.gui, needs_ik]
+pytestmark = [pytest.mark.gui]
 
 
 def type_into(qtbot, spin, text):

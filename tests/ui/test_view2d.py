@@ -8,7 +8,7 @@ import pytest
 from PySide6.QtCore import Qt
 from test_fallback import run_offscreen
 from test_view3d import aim, remounted
-from ui_common import HERON, needs_ik
+from ui_common import HERON
 
 from poser import armfile
 from poser.ui import geometry
@@ -33,7 +33,6 @@ def drawn(item):
     return x is not None and len(x) > 0 and np.isfinite(x).any()
 
 
-@needs_ik
 def test_ghosts_are_numbered_dashed_beyond_limits_and_any_row_highlights(flat):
     win = flat()
     result = aim(win, (900, -300, 900), (180, 0, 0))
@@ -52,7 +51,6 @@ def test_ghosts_are_numbered_dashed_beyond_limits_and_any_row_highlights(flat):
     assert (x[-1], z[-1]) == pytest.approx((want[0], want[2]))
 
 
-@needs_ik
 def test_the_nearest_reachable_point_is_marked_with_a_line_from_the_target(flat):
     win = flat()
     front = win.view._items[0]

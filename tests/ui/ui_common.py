@@ -5,10 +5,6 @@ from __future__ import annotations
 import shutil
 from pathlib import Path
 
-import pytest
-
-from poser.ui import ikbridge
-
 ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "demo_arms"
 HERON = DEMO / "heron6.toml"
@@ -20,5 +16,18 @@ def copy_demo(name: str, folder: Path) -> Path:
     shutil.copy(DEMO / name, p)
     return p
 
-needs_ik = pytest.mark.skipif(not ikbridge.available(), reason=ikbridge.SKIP_REASON)
-"""For tests that need poser.core.ik (skipped, with that reason, only in a build without it)."""
+def wide_heron(folder: Path) -> Path:
+    """Heron 6 with joints 1, 4 and 6 turning more than a turn (an edited copy): a target's branches then
+    come with many turn variants — a long branch list (Heron 6 at 900, -300, 900 mm, rpy 180, 0, 0 deg:
+    well over 30 branches in 8 configurations)."""
+    text = (DEMO / "heron6.toml").read_text()
+    edits = (("min = -170\nmax = 170", "min = -400\nmax = 400"), ("min = -190\nmax = 190", "min = -400\nmax = 400"),
+             ("min = -350\nmax = 350", "min = -700\nmax = 700"))
+    for old, new in edits:
+        assert old in text, old
+        text = text.replace(old, new)
+    p = Path(folder) / "heron6_wide.toml"
+    p.write_text(text)
+    return p
+
+

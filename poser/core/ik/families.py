@@ -33,7 +33,7 @@ import numpy as np
 
 from poser.core.ik import turns
 from poser.core.ik.result import Family
-from poser.core.jacobian import jacobian
+from poser.core.jacobian import jacobian, joint_axes
 from poser.core.transforms import TWO_PI, wrap
 
 __all__ = ["joint_families", "turn_families", "reduced_families", "orientation_families", "free_family",
@@ -383,4 +383,153 @@ def free_family(chain, q, free, ref):
     rest_ok = bool(turns.fits(chain, q))
     ranges = tuple(((float(chain.lower[j]), float(chain.upper[j])),) if rest_ok else () for j in free)
     fam = Family("joint", tuple(chain.names[j] for j in free), tuple(free), (), ranges, 1.0 if rest_ok else 0.0, 0)
+    return fam, q
+
+
+COLLINEAR = 1e-7
+"""Two joint lines count as one line when the sine of their angle and their distance (÷ the arm's size)
+are below this at a solution the numerical solver found (it converges to about 1e-9 of the arm's size)."""
+
+
+def _line_groups(chain, q):
+    """Joints whose lines coincide at ``q`` (n,), as tuples of indices: revolute joints on one line, or
+    prismatic joints along one direction.  Turning (sliding) one of them and the last the other way by
+    the same amount leaves every frame after the last one where it was: a self-motion of the arm, exact
+    and linear in the joint values."""
+    o, w, _ = joint_axes(chain, q)
+    rev = chain.revolute
+    groups: list = []
+    seen: set = set()
+    for a in range(chain.n):
+        if a in seen:
+            continue
+        g = [a]
+        for b in range(a + 1, chain.n):
+            if b in seen or rev[a] != rev[b]:
+                continue
+            if np.linalg.norm(np.cross(w[a], w[b])) > COLLINEAR:
+                continue
+            if rev[a]:
+                d = o[b] - o[a]
+                if np.linalg.norm(d - w[a] * float(d @ w[a])) > COLLINEAR * chain.scale:
+                    continue
+            g.append(b)
+        if len(g) > 1:
+            seen.update(g)
+            groups.append(tuple(g))
+    return [(g, tuple(float(np.sign(w[g[-1]] @ w[k])) for k in g[:-1])) for g in groups]
+
+
+class _LineMembers:
+    """Members of linear self-motions (:func:`_line_groups`) for values of their first free joint.
+
+    ``keys`` (B, n): each family's member with its free joint at zero (the last joint of its line takes up
+    the turn); ``j`` the free joint, ``k`` the joint that follows, ``s`` the sign (+1: the lines point the
+    same way, so the follower turns back by the same amount).
+    """
+
+    kind = "joint"
+
+    def __init__(self, chain, keys, j, k, s, ref_value):
+        self.chain, self.keys, self.j, self.k, self.s = chain, np.asarray(keys, float), j, k, s
+        self.ref_value = float(ref_value)
+
+    def _at(self, values):
+        M = np.repeat(self.keys[None], len(values), 0)
+        M[:, :, self.j] = values[:, None]
+        M[:, :, self.k] -= self.s * values[:, None]
+        return M
+
+    def __call__(self, values):
+        M = turns.place(self.chain, self._at(np.asarray(values, float)))
+        return M, turns.fits(self.chain, M)
+
+    def one(self, value, slot):
+        return turns.place(self.chain, self._at(np.array([float(value)]))[0, slot])
+
+
+def line_families(chain, Q, ref):
+    """Group solutions ``Q`` (K, n) the numerical solver found into linear self-motions.
+
+    At a singular target two joint lines can coincide (the tool's axis on the base axis, wrist axes in
+    line); the solver then lands on many members of one family.  Members of the same family (same lines,
+    the same values of the other joints, the same sum of the two turns) become one family, searched
+    over the free joint's whole range like a closed-form joint family.
+
+    Returns
+    -------
+    list of (Family or None, q)
+        One entry per family or lone solution; ``q`` the representative (the member within limits whose
+        free joint is nearest its value in ``ref``; else the member nearest the limits).
+    """
+    out = []
+    pending: dict = {}
+    for q in np.asarray(Q, float):
+        groups = _line_groups(chain, q)
+        if not groups:
+            out.append((None, q))
+            continue
+        key = q.copy()
+        for g, signs in groups:  # the member with each group's free joints at zero
+            last = g[-1]
+            for j, s in zip(g[:-1], signs):
+                key[last] += s * key[j]
+                key[j] = 0.0
+        key = np.where(chain.revolute, wrap(key), key)
+        sig = tuple((g, signs) for g, signs in groups)
+        pending.setdefault(sig, []).append(key)
+    for sig, keys in pending.items():
+        keys = np.array(keys)
+        K = _unique_rows(chain, keys)
+        if len(sig) == 1 and len(sig[0][0]) == 2:
+            (g, signs), = sig
+            members = _LineMembers(chain, K, g[0], g[1], signs[0], ref[g[0]])
+            for _, fam, q in _one_parameter(chain, members, list(range(len(K))), None):
+                out.append((fam, q))
+        else:  # two or more free joints: the first two free joints on a grid
+            for key in K:
+                out.append(_line_grid(chain, key, sig, ref))
+    return out
+
+
+def _unique_rows(chain, K):
+    keep = []
+    for i, row in enumerate(K):
+        d = [row - K[j] for j in keep]
+        if not any(np.max(np.abs(np.where(chain.revolute, wrap(x), x / chain.scale))) < 1e-6 for x in d):
+            keep.append(i)
+    return K[keep]
+
+
+def _line_grid(chain, key, sig, ref):
+    """A linear self-motion with two or more free joints: a grid over the first two, the rest at ``ref``."""
+    frees = [(j, g[-1], s) for g, signs in sig for j, s in zip(g[:-1], signs)]
+    (j1, k1, s1), (j2, k2, s2) = frees[0], frees[1]
+    axes = []
+    for j in (j1, j2):
+        lo, hi = (-math.pi, math.pi) if turns._wide(chain)[j] else (float(chain.lower[j]), float(chain.upper[j]))
+        axes.append(np.linspace(lo, hi, GRID))
+    A, B = np.meshgrid(axes[0], axes[1], indexing="ij")
+    M = np.repeat(np.asarray(key, float)[None], A.size, 0)
+    for j, k, s in frees[2:]:
+        M[:, j] = ref[j]
+        M[:, k] -= s * ref[j]
+    M[:, j1], M[:, j2] = A.ravel(), B.ravel()
+    M[:, k1] -= s1 * A.ravel()
+    M[:, k2] -= s2 * B.ravel()
+    M = turns.place(chain, M)
+    good = turns.fits(chain, M)
+    G = good.reshape(GRID, GRID)
+    ranges = tuple(tuple((float(ax[i0]), float(ax[i1])) for i0, i1 in _intervals(ax, G.any(axis=1 - n)))
+                   for n, ax in enumerate(axes))
+    free = (j1, j2)
+    follows = _follows(M, good, free)
+    if good.any():
+        d = np.linalg.norm(wrap(M[good][:, list(free)] - np.asarray(ref, float)[list(free)]), axis=1)
+        q = M[np.flatnonzero(good)[int(np.argmin(d))]].copy()
+    else:
+        q = M[_least_bad(chain, M)].copy()
+    names = chain.names
+    fam = Family("joint", tuple(names[i] for i in (*free, *follows)), free, follows, ranges, float(good.mean()),
+                 len(M), True)
     return fam, q

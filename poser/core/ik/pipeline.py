@@ -237,8 +237,8 @@ def _numeric_candidates(chain, xyz, R, ref, C, tol, redundant, options, deadline
     q, conv, complete = _run_starts(chain, xyz, R, S, tol, deadline)
     Q = q[conv]
     if not redundant:
-        for row in Q[_dedupe(chain, Q, 1e-6)]:
-            C.add(row)
+        for fam, row in families.line_families(chain, Q[_dedupe(chain, Q, 1e-6)], ref):
+            C.add(row, fam)
         return complete
     # a family: search it within the limits too (projected steps), so that each configuration's verdict is
     # "some member within limits" whenever the search meets one, not the verdict of an arbitrary member

@@ -242,3 +242,42 @@ def test_numerical_position_only_verdicts_come_from_a_search_within_limits():
             found.add(labels.describe(ch, sol.x[None], frames(ch, sol.x[None]))[0])
     assert not (found & blocked), (found, blocked)
     assert inside
+
+
+def test_numerical_arm_with_the_tool_axis_on_the_base_axis_gives_one_family_per_configuration():
+    """Wren 6 (no closed form) with the tool pointing straight up the base axis: the spindle's axis and the
+    base axis are one line, so turning the base by t and the spindle by −t keeps the tool where it is
+    (a shoulder-type singularity; Spong et al., ch. 4, from memory).  The solver lands on many members of
+    each such family; they must come back as one family per configuration, whose within-limits range is
+    the one a brute-force sweep of the base turn finds (every member checked by forward kinematics)."""
+    ch = _demo("wren6")
+    xyz, R = np.array([0.0, 0.0, 1500.0]), np.eye(3)
+    res = solve(ch, xyz, R)
+    assert res.reachable and res.complete and res.total == len(res.branches) == 4
+    assert len({b.configuration for b in res.branches}) == 4
+    for b in res.branches:
+        fam = b.family
+        assert fam is not None and fam.kind == "joint" and fam.joints == (0,) and fam.follows == (5,)
+        assert fam.free == ("base turn", "spindle turn")
+        c = b.q[0] + b.q[5]  # the family: joint 1 + joint 6 constant, the rest fixed
+        t = np.linspace(ch.lower[0], ch.upper[0], 3301)  # 0.1 degree steps
+        Q = np.repeat(b.q[None], len(t), 0)
+        Q[:, 0], Q[:, 5] = t, c - t
+        T = ch.fk(Q)
+        assert np.max(np.linalg.norm(T[:, :3, 3] - xyz, axis=1)) < 1e-5
+        assert np.max(rotation_error(T[:, :3, :3], R)) < 1e-8
+        # within limits: some whole turn of joint 6 fits its range, the other joints fixed within theirs
+        fits6 = np.zeros(len(t), bool)
+        for k in (-2, -1, 0, 1, 2):
+            v = Q[:, 5] + 2 * np.pi * k
+            fits6 |= (v >= ch.lower[5]) & (v <= ch.upper[5])
+        rest = all(ch.lower[i] - 1e-9 <= b.q[i] <= ch.upper[i] + 1e-9 for i in (1, 2, 3, 4))
+        good = fits6 & rest
+        inside = np.zeros(len(t), bool)
+        for lo, hi in fam.ranges[0]:
+            inside |= (t >= lo - 1e-9) & (t <= hi + 1e-9)
+        assert np.array_equal(inside, good)
+        assert b.within_limits == bool(good.any())
+        assert fam.fraction == pytest.approx(good.mean(), abs=2e-3)
+    # the present base turn is kept where the family allows it: the representative keeps joint 1 at 0
+    assert [round(float(b.q[0]), 12) for b in res.branches if b.within_limits] == [0.0, 0.0]
