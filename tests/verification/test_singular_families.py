@@ -96,3 +96,29 @@ def test_wrist_family_with_a_narrow_window_is_reachable():
     inside = ref.solve_bounded(a, xyz, R, K=200)
     assert inside and all(40.0 < ref.to_user(a, s)[3] < 40.5 for s in inside)
     assert ps.solve(a, xyz, R).reachable
+
+
+@pytest.mark.xfail(strict=True, reason="the seven-axis arm's family over J3 is sampled at 1° steps: with J1 limited "
+                   "to 12.2..12.4 deg only a narrow J3 window is within limits, and the FK of a within-limits pose is "
+                   "called not reachable")
+def test_seven_axis_target_from_a_within_limits_pose_is_reachable():
+    a = ref.with_limits(arms.srs7(), 0, 12.2, 12.4)
+    q = ref.to_internal(a, [12.3, 35.7, 20.45, -60.2, 30.6, 45.1, 10.0])
+    assert ref.fits_limits(a, q)
+    T = ref.fk(a, q)
+    assert ps.solve(a, T[:3, 3], T[:3, :3]).reachable
+
+
+def test_seven_axis_random_targets_reachable_with_correct_members():
+    from .compare import check_branch
+
+    a = arms.srs7()
+    lo, hi = ref.limits(a)
+    rng = np.random.default_rng(12)
+    for _ in range(4):
+        q = lo + rng.random(7) * (hi - lo)
+        T = ref.fk(a, q)
+        res = ps.solve(a, T[:3, 3], T[:3, :3])
+        assert res.reachable and res.redundant
+        for b in res.branches:
+            assert not check_branch(a, b, T[:3, 3], T[:3, :3], res.tolerance)
