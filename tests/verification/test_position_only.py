@@ -80,3 +80,20 @@ def test_far_target_nearest_point_with_its_rotation_is_reachable():
     problems, res, _, _ = compare(a, [3000.0, 500.0, 800.0], R, K=100)
     assert not res.reachable and not problems, "\n".join(problems)
     assert ps.solve(a, res.nearest_point, res.nearest_rotation).reachable
+
+
+@pytest.mark.xfail(strict=True, reason="position-only on a six-axis arm: one configuration ('shoulder front · elbow "
+                   "up · wrist flipped', same turns) is listed twice, once within limits and once 'beyond J2 lower' "
+                   "(fraction 0): the verdict of that configuration contradicts itself")
+def test_position_only_lists_each_configuration_once():
+    from collections import Counter
+
+    a = arms.six_offsets()
+    q = ref.to_internal(a, [-148.1, -51.75, 148.921, -73.201, 21.667, 343.52])
+    xyz = ref.fk(a, q)[:3, 3]
+    res = ps.solve(a, xyz, None)
+    assert res.reachable
+    for b in res.branches:
+        assert ref.errors(a, b.q, xyz)[0] < 1e-6 * ref.size(a)
+    rows = Counter((b.configuration, b.turns) for b in res.branches)
+    assert all(c == 1 for c in rows.values()), rows.most_common(1)
