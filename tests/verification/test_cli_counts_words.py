@@ -142,3 +142,17 @@ def test_fk_names_the_singularity_the_geometry_has(name, q_user, kinds):
     assert code == 0
     assert {k["kind"] for k in js["singularity"]["kinds"]} == kinds
     assert (js["singularity"]["level"] == "at") == bool(kinds)
+
+
+def test_shortened_listings_keep_the_variant_at_near_and_count_the_rest():
+    a = arms.six_plain()
+    for i, (lo, hi) in {0: (-720, 720), 2: (-360, 360), 3: (-720, 720), 5: (-720, 720)}.items():
+        a = ref.with_limits(a, i, lo, hi)
+    q = ref.to_internal(a, [30, 10, -20, 40, 35, 25])
+    T = ref.fk(a, q)
+    near = q + np.radians([360, 0, 360, -720, 0, -720])  # a within-limits turn variant of the same pose
+    assert ref.fits_limits(a, near)
+    for opts, listed in (({"max_variants": 4}, 32), ({"max_variants": 1}, 8), ({"max_branches": 3}, 3)):
+        res = ps.solve(a, T[:3, 3], T[:3, :3], near=near, **opts)
+        assert res.total == 1024 and len(res.branches) == listed and res.unlisted == 1024 - listed
+        assert np.allclose(res.branches[0].q, near)

@@ -97,3 +97,35 @@ def test_position_only_lists_each_configuration_once():
         assert ref.errors(a, b.q, xyz)[0] < 1e-6 * ref.size(a)
     rows = Counter((b.configuration, b.turns) for b in res.branches)
     assert all(c == 1 for c in rows.values()), rows.most_common(1)
+
+
+def test_planar_2r_within_tolerance_beyond_the_boundary_is_reachable():
+    a = arms.planar2()
+    for eps in (0.0, 1e-9, 1e-6):  # the tolerance is 1e-6 of the arm's size: 7e-4 mm
+        xyz = (700 + eps) * np.array([np.cos(np.radians(20)), np.sin(np.radians(20)), 0])
+        assert ps.solve(a, xyz, None).reachable
+
+
+@pytest.mark.parametrize("eps", [1e-9, 1e-6])
+@pytest.mark.xfail(strict=True, reason="planar 3R, position only (a tool-turn family): a point beyond the stretched "
+                   "reach by less than the tolerance (8.4e-4 mm) is called not reachable, and no nearest point is "
+                   "given because the closest approach is within tolerance; the planar 2R arm calls the same reachable")
+def test_planar_3r_within_tolerance_beyond_the_boundary_is_reachable(eps):
+    a = arms.planar3()
+    xyz = (840 + eps) * np.array([np.cos(np.radians(20)), np.sin(np.radians(20)), 0])
+    stretched = ref.to_internal(a, [20, 0, 0])  # the reference: this pose misses by eps only, within limits
+    assert ref.errors(a, stretched, xyz)[0] <= eps * 1.001
+    res = ps.solve(a, xyz, None)
+    assert eps < res.tolerance[0]
+    assert res.reachable
+
+
+@pytest.mark.xfail(strict=True, reason="planar 3R, position only: the nearest reachable point of a far target, typed "
+                   "back, is called not reachable (the closest approach then misses it by 2e-7 mm, within tolerance)")
+def test_planar_3r_nearest_point_typed_back_is_reachable():
+    a = arms.planar3()
+    res = ps.solve(a, [2500.0, 300.0, 0.0], None)
+    assert not res.reachable and res.nearest_point is not None
+    best, _ = ref.closest_bounded(a, [2500.0, 300.0, 0.0], None, K=60)
+    assert res.closest.position_error <= best + 1e-6 * ref.size(a)
+    assert ps.solve(a, res.nearest_point, None).reachable
