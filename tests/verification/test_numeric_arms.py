@@ -31,9 +31,6 @@ def _on_axis_target(a):
     return T
 
 
-@pytest.mark.xfail(strict=True, reason="five-axis arm (numerical), tool point and tool axis on axis 1: J1 and J5 "
-                   "trade over a whole range, but Poser lists dozens of isolated branches of the same configuration "
-                   "(63-121 rows of 2-4 configurations) and no family")
 def test_five_axis_on_axis_target_is_a_family_not_many_rows():
     a = arms.five_axis()
     T = _on_axis_target(a)
