@@ -39,9 +39,6 @@ def test_lateral_offset_double_root_on_the_floor():
     assert all(c == 1 for c in rows.values())
 
 
-@pytest.mark.xfail(strict=True, reason="at the lateral-offset shoulder singularity (wrist centre exactly d2 from "
-                   "axis 1) the double root of J1 splits by ~1e-7 rad on a wall-mounted copy and every branch is "
-                   "listed twice: 12 branches instead of the floor-mounted arm's 6")
 def test_lateral_offset_double_root_on_a_wall_mount():
     a = arms.six_lateral(base=arms.WALL)
     T = _lateral_double_root(a)

@@ -11,7 +11,6 @@ in the within-limits range Poser's families report.
 from __future__ import annotations
 
 import numpy as np
-import pytest
 
 from . import arms
 from . import poserside as ps
@@ -52,8 +51,6 @@ def test_shoulder_family_ranges_match_the_reference():
         assert ref.same(a, again.branches[0].q, sols[0], 1e-6)
 
 
-@pytest.mark.xfail(strict=True, reason="a joint family is sampled at 1° steps: a within-limits window of J1 "
-                   "narrower than 1° between two samples is missed, so the target is called not reachable")
 def test_shoulder_family_with_a_narrow_window_is_reachable():
     # J4 limited to [-40.44, -40.04] deg: only J1 in about [20.37, 20.63] (elbow up) and [-151.6, -151.3]
     # (elbow down) keeps every joint within limits
@@ -88,8 +85,6 @@ def test_wrist_family_ranges_match_the_reference():
         assert bool(sols) == any(lo - 1e-6 <= v <= hi + 1e-6 for lo, hi in spans), v
 
 
-@pytest.mark.xfail(strict=True, reason="the J4/J6 family at θ5 = 0 is sampled at 1° steps: a within-limits "
-                   "window narrower than 1° (J6 in [24.6, 24.9] deg) is missed and the target called not reachable")
 def test_wrist_family_with_a_narrow_window_is_reachable():
     a = ref.with_limits(arms.six_offsets(), 5, 24.6, 24.9)
     xyz, R = _wrist_singular_target(a)
@@ -98,9 +93,6 @@ def test_wrist_family_with_a_narrow_window_is_reachable():
     assert ps.solve(a, xyz, R).reachable
 
 
-@pytest.mark.xfail(strict=True, reason="the seven-axis arm's family over J3 is sampled at 1° steps: with J1 limited "
-                   "to 12.2..12.4 deg only a narrow J3 window is within limits, and the FK of a within-limits pose is "
-                   "called not reachable")
 def test_seven_axis_target_from_a_within_limits_pose_is_reachable():
     a = ref.with_limits(arms.srs7(), 0, 12.2, 12.4)
     q = ref.to_internal(a, [12.3, 35.7, 20.45, -60.2, 30.6, 45.1, 10.0])

@@ -93,6 +93,11 @@ class _Members:
         self.ref_value = float(ref[j]) if ref_value is None else float(ref_value)
 
     def __call__(self, values):
+        M, good, _ = self.evaluate(values)
+        return M, good
+
+    def evaluate(self, values):
+        """``(M (S, B, n) placed, good (S, B), exact (S, B))`` for the parameter ``values`` (S,)."""
         values = np.asarray(values, float)
         S = len(values)
         P = np.repeat(self.xyz[None], S, 0)
@@ -106,7 +111,7 @@ class _Members:
             refs[:, self.j] = values
             Q, ex, _ = self.plan.candidates(P, Rs, refs)
         M = turns.place(self.chain, Q)
-        return M, ex & turns.fits(self.chain, M)
+        return M, ex & turns.fits(self.chain, M), ex
 
     def one(self, value, slot):
         """The slot's member at ``value``, solved in plain floats, placed (n,)."""
@@ -129,7 +134,9 @@ def _sampled(members, lo, hi, slots):
     """
     S = max(2, int(math.ceil((hi - lo) / STEP)) + 1)
     s = np.linspace(lo, hi, S)
-    M, good = members(s)
+    M, good, exact = members.evaluate(s)
+    s, M, good = _narrow_windows(members, s, M, good, exact, slots)
+    S = len(s)
     runs = {b: _intervals(s, good[:, b]) for b in slots}
     pairs = []  # (slot, index of a good sample, index of its bad neighbour): a boundary to refine
     for b, rs in runs.items():
@@ -156,6 +163,73 @@ def _sampled(members, lo, hi, slots):
         ranges[b] = [(float(s[0]) if i0 == 0 else ends[(b, i0)], float(s[-1]) if i1 == S - 1 else ends[(b, i1)])
                      for i0, i1 in rs]
     return s, M, good, ranges
+
+
+WINDOW_SPLIT = 16
+"""Sub-samples per step when a step may hide a window within limits."""
+WINDOW_DEPTH = 5
+"""Levels of splitting (16⁵ ≈ 10⁶ sub-steps per 1° step: windows down to about 2e-8 rad are found)."""
+
+
+def _maybe_inside(chain, A, C):
+    """Per row, whether the members between two samples may all be within limits: for every joint the
+    range of its two values meets the joint's limits (a joint's value moves continuously along a family, so
+    a window within limits between two samples shows this way).  ``A``, ``C`` (K, n) placed values."""
+    tol = turns.tolerances(chain)
+    wide = turns._wide(chain)
+    lo_v, hi_v = np.minimum(A, C), np.maximum(A, C)
+    meets = (hi_v >= chain.lower - tol) & (lo_v <= chain.upper + tol)
+    jump = chain.revolute & (hi_v - lo_v > math.pi)  # placed by another turn: cannot tell, look closer
+    return np.all(meets | wide | jump, axis=1)
+
+
+def _narrow_windows(members, s, M, good, exact, slots):
+    """Look inside the steps of the 1° sampling where a window within limits may hide (both ends beyond
+    a limit, but every joint's values meeting its limits): split them into :data:`WINDOW_SPLIT` and again,
+    up to :data:`WINDOW_DEPTH` levels, until a member within limits shows or the step cannot hold one.
+
+    Returns ``(s, M, good)`` with the sub-samples that found a window merged in (sorted).
+    """
+    chain = members.chain
+    steps = []  # (slot, lower value, upper value)
+    for b in slots:
+        g, e = good[:, b], exact[:, b]
+        cand = ~g[:-1] & ~g[1:] & e[:-1] & e[1:]
+        if not cand.any():
+            continue
+        idx = np.flatnonzero(cand)
+        may = _maybe_inside(chain, M[idx, b], M[idx + 1, b])
+        steps += [(b, float(s[i]), float(s[i + 1])) for i in idx[may]]
+    found_s, found_M, found_g = [], [], []
+    for _ in range(WINDOW_DEPTH):
+        if not steps:
+            break
+        t = np.linspace(0.0, 1.0, WINDOW_SPLIT + 1)
+        vals = np.concatenate([a + (c - a) * t for _, a, c in steps])
+        Mv, gv, ev = members.evaluate(vals)
+        nxt = []
+        k = WINDOW_SPLIT + 1
+        for m, (b, _, _) in enumerate(steps):
+            rows = slice(m * k, (m + 1) * k)
+            g, e, Mb = gv[rows, b], ev[rows, b], Mv[rows, b]
+            if g.any():
+                found_s.append(vals[rows])
+                found_M.append(Mv[rows])
+                found_g.append(gv[rows])
+                continue
+            cand = e[:-1] & e[1:]
+            if not cand.any():
+                continue
+            idx = np.flatnonzero(cand)
+            may = _maybe_inside(chain, Mb[idx], Mb[idx + 1])
+            sub = vals[rows]
+            nxt += [(b, float(sub[i]), float(sub[i + 1])) for i in idx[may]]
+        steps = nxt
+    if not found_s:
+        return s, M, good
+    s2 = np.concatenate([s] + found_s)
+    order = np.argsort(s2, kind="stable")
+    return s2[order], np.concatenate([M] + found_M)[order], np.concatenate([good] + found_g)[order]
 
 
 def _over_whole_range(ranges, lo, hi):
@@ -441,8 +515,13 @@ class _LineMembers:
         return M
 
     def __call__(self, values):
+        M, good, _ = self.evaluate(values)
+        return M, good
+
+    def evaluate(self, values):
         M = turns.place(self.chain, self._at(np.asarray(values, float)))
-        return M, turns.fits(self.chain, M)
+        good = turns.fits(self.chain, M)
+        return M, good, np.ones_like(good)
 
     def one(self, value, slot):
         return turns.place(self.chain, self._at(np.array([float(value)]))[0, slot])

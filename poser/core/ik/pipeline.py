@@ -42,6 +42,11 @@ MAX_VARIANTS = 64
 """Turn variants listed per configuration (the rest are counted)."""
 MAX_BRANCHES = 512
 """Branches listed in all (the rest are counted)."""
+SAME = 1e-6
+"""Two candidate rows closer than this in every joint (rad; lengths ÷ the arm's size) are one branch: a
+double root (a shoulder offset exactly reached, a mounted copy of the arm) splits by ~1e-7 in rounding."""
+NUMERIC_SAME = 1e-5
+"""The same for the numerical solver's rows, which stop within tolerance of a solution, not on it."""
 
 
 def _check_inputs(chain, xyz, R, near):
@@ -237,7 +242,13 @@ def _numeric_candidates(chain, xyz, R, ref, C, tol, redundant, options, deadline
     q, conv, complete = _run_starts(chain, xyz, R, S, tol, deadline)
     Q = q[conv]
     if not redundant:
-        for fam, row in families.line_families(chain, Q[_dedupe(chain, Q, 1e-6)], ref):
+        # near a singular pose the solver stops within tolerance but a little apart on each start (1e-6 rad
+        # near a stretched elbow): the most accurate copy first, copies within NUMERIC_SAME of it dropped
+        if len(Q) > 1:
+            ev = evaluate(chain, Q, xyz, R)
+            err = np.asarray(ev.position_error) / tol[0] + np.asarray(ev.orientation_error) / tol[1]
+            Q = Q[np.argsort(err, kind="stable")]
+        for fam, row in families.line_families(chain, Q[_dedupe(chain, Q, NUMERIC_SAME)], ref):
             C.add(row, fam)
         return complete
     # a family: search it within the limits too (projected steps), so that each configuration's verdict is
@@ -359,7 +370,7 @@ def _solve(chain, xyz, R, near, tol, method, options):
         complete = _numeric_candidates(chain, xyz, R, ref, C, tol, redundant, options, deadline)
     Q = C.Q
     fams = C.families
-    keep = _dedupe(chain, Q, 1e-7)
+    keep = _dedupe(chain, Q, SAME)
     Q_all = Q
     Q = Q[keep]
     fams = [fams[k] for k in keep]
