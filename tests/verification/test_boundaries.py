@@ -86,9 +86,6 @@ def test_round_number_target_over_the_base_axis(mount):
 
 
 @pytest.mark.parametrize("name", ["cylindrical", "stanford_like"])
-@pytest.mark.xfail(strict=True, reason="a target 1e-6 mm beyond a slide's upper limit (tolerance ~1.5e-3 mm) is "
-                   "'not reachable within limits' (exit 1) although the closest approach within limits reaches it "
-                   "(closest.reaches True; the message says it 'misses the position by 0 mm')")
 def test_target_within_tolerance_beyond_a_slide_limit(name):
     a = getattr(arms, name)()
     if name == "cylindrical":

@@ -40,9 +40,6 @@ def test_shoulder_word_changes_where_the_wrist_centre_crosses_the_base_axis():
         assert f"shoulder {side}" in _words(a, q)
 
 
-@pytest.mark.xfail(strict=True, reason="the elbow word flips (elbow down -> elbow up) when only J2 moves and the "
-                   "wrist centre passes over the shoulder point — no singularity is crossed and the elbow stays on "
-                   "the same side of the shoulder-wrist line; the shoulder word does not change there")
 def test_elbow_word_is_constant_along_a_branch():
     a = arms.six_offsets()
     words, sides = set(), set()

@@ -35,9 +35,6 @@ def test_position_only_six_axis_ordinary_target():
         assert b.within_limits == ref.fits_limits(a, b.q)
 
 
-@pytest.mark.xfail(strict=True, reason="position-only families are searched over 1024 sampled orientations: with "
-                   "narrow wrist limits (±5°) no sample lands within limits, so a reachable target is called not "
-                   "reachable while the closest approach reaches it exactly")
 def test_position_only_with_narrow_wrist_limits():
     a = arms.six_offsets()
     for i in (3, 4, 5):
@@ -51,9 +48,6 @@ def test_position_only_with_narrow_wrist_limits():
     assert res.reachable
 
 
-@pytest.mark.xfail(strict=True, reason="a position-only target on the outer workspace boundary (reachable with one "
-                   "orientation only) is called not reachable; the closest approach reaches it within tolerance and "
-                   "no nearest point is given")
 def test_position_only_farthest_point_is_reachable():
     a = arms.six_plain()
     q = ref.to_internal(a, [20, 0, 90, 0, 0, 0])  # stretched horizontally, tool along the arm: within limits
@@ -63,8 +57,6 @@ def test_position_only_farthest_point_is_reachable():
     assert res.reachable
 
 
-@pytest.mark.xfail(strict=True, reason="the nearest reachable point of a far position-only target, typed back as a "
-                   "position-only target, is called not reachable (it lies on the workspace boundary)")
 def test_position_only_nearest_point_typed_back_is_reachable():
     a = arms.six_offsets()
     res = ps.solve(a, [3000.0, 500.0, 800.0], None)
@@ -82,9 +74,6 @@ def test_far_target_nearest_point_with_its_rotation_is_reachable():
     assert ps.solve(a, res.nearest_point, res.nearest_rotation).reachable
 
 
-@pytest.mark.xfail(strict=True, reason="position-only on a six-axis arm: one configuration ('shoulder front · elbow "
-                   "up · wrist flipped', same turns) is listed twice, once within limits and once 'beyond J2 lower' "
-                   "(fraction 0): the verdict of that configuration contradicts itself")
 def test_position_only_lists_each_configuration_once():
     from collections import Counter
 
@@ -107,9 +96,6 @@ def test_planar_2r_within_tolerance_beyond_the_boundary_is_reachable():
 
 
 @pytest.mark.parametrize("eps", [1e-9, 1e-6])
-@pytest.mark.xfail(strict=True, reason="planar 3R, position only (a tool-turn family): a point beyond the stretched "
-                   "reach by less than the tolerance (8.4e-4 mm) is called not reachable, and no nearest point is "
-                   "given because the closest approach is within tolerance; the planar 2R arm calls the same reachable")
 def test_planar_3r_within_tolerance_beyond_the_boundary_is_reachable(eps):
     a = arms.planar3()
     xyz = (840 + eps) * np.array([np.cos(np.radians(20)), np.sin(np.radians(20)), 0])
@@ -120,8 +106,6 @@ def test_planar_3r_within_tolerance_beyond_the_boundary_is_reachable(eps):
     assert res.reachable
 
 
-@pytest.mark.xfail(strict=True, reason="planar 3R, position only: the nearest reachable point of a far target, typed "
-                   "back, is called not reachable (the closest approach then misses it by 2e-7 mm, within tolerance)")
 def test_planar_3r_nearest_point_typed_back_is_reachable():
     a = arms.planar3()
     res = ps.solve(a, [2500.0, 300.0, 0.0], None)

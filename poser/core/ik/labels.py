@@ -3,9 +3,11 @@
 * **shoulder front / back**: the wrist point is on the side of the base axis the arm faces, or the
   other; *wrist over the base axis* when it is on the axis (a shoulder singularity), *wrist beside
   the base axis* when a sideways shoulder offset puts it in the plane of the base and shoulder axes;
-* **elbow up / down**: the elbow point above or below the line from shoulder to wrist, "above"
-  meaning along the base frame's z axis (away from the mounting surface), else towards the facing
-  direction; *arm stretched* / *arm folded* when the three points are in one line;
+* **elbow up / down**: the elbow point above or below the line from shoulder to wrist, seen in the
+  arm's plane with "forward" the direction from the base axis out to the wrist and "up" the base
+  frame's z axis (away from the mounting surface) — so the word stays along a branch when the wrist
+  passes over the shoulder, and an arm reaching back over its base is read mirrored; *arm stretched* /
+  *arm folded* when the three points are in one line;
   seven-axis arms: *elbow bend positive / negative* (the sign of the elbow's bend about its axis);
 * planar arms: *elbow up / down* in a vertical plane, *right- / left-handed arm* (seen from above)
   in a horizontal one;
@@ -130,8 +132,17 @@ def describe(chain, Q, F) -> list[str]:
                 c0, c1, c2 = _cross((v0, v1, v2), (W[0] - E[0], W[1] - E[1], W[2] - E[2]))
                 bent = "elbow bend positive" if c0 * z[0] + c1 * z[1] + c2 * z[2] > 0 else "elbow bend negative"
             else:
-                upc = p0 * up[0] + p1 * up[1] + p2 * up[2]
-                sgn = upc if abs(upc) > 1e-3 * npe else p0 * f[0] + p1 * f[1] + p2 * f[2]
+                # the side of the shoulder–wrist line the elbow is on, seen across the arm's plane from the
+                # side where "forward" (from the base axis out to the wrist) has "up" on its left: continuous
+                # along a branch (no flip when the wrist passes over the shoulder), mirrored for an arm
+                # reaching back over its base
+                fw = (h0, h1, h2) if sqrt(h0 * h0 + h1 * h1 + h2 * h2) > tiny else tuple(f)
+                n0, n1, n2 = _cross(up, fw)
+                c0, c1, c2 = _cross((v0, v1, v2), (d0, d1, d2))
+                sgn = c0 * n0 + c1 * n1 + c2 * n2
+                if abs(sgn) <= 1e-9 * npe * sqrt(dd) * sqrt(n0 * n0 + n1 * n1 + n2 * n2):
+                    upc = p0 * up[0] + p1 * up[1] + p2 * up[2]  # the arm's plane is across: above or below
+                    sgn = upc
                 bent = "elbow up" if sgn > 0 else "elbow down"
             words += " · " + bent
         elif an.elbow is not None:

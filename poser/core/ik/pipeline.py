@@ -19,6 +19,7 @@ must stay responsive; when it cuts the numerical search, the result says so
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import time
 
@@ -285,6 +286,64 @@ def _numeric_candidates(chain, xyz, R, ref, C, tol, redundant, options, deadline
     return complete
 
 
+def _one_family_per_configuration(branches):
+    """Families of the same configuration and turns listed once: the first (the best: within limits first,
+    then nearest).  Two closed-form slots can share a configuration over a family (position only: the slots
+    trade places as the tool's orientation turns), and one configuration must have one verdict.
+
+    Returns ``(branches, number dropped)``.
+    """
+    seen, out = set(), []
+    for b in branches:
+        if b.family is not None:
+            key = (b.configuration, b.turns)
+            if key in seen:
+                continue
+            seen.add(key)
+        out.append(b)
+    return out, len(branches) - len(out)
+
+
+def _label(names, words, t):
+    """A branch's label (its configuration words, then the turn words) and its number of whole turns."""
+    if not any(t):
+        return words, 0
+    moved = [f"{names[i]} {x:+d} turn" + ("s" if abs(x) > 1 else "") for i, x in enumerate(t) if x]
+    return " · ".join([words] + moved), sum(map(abs, t))
+
+
+def _with_closest(chain, branches, closest, total):
+    """The branches with the closest approach, which reaches within limits, as the first branch.
+
+    It takes the place of a listed branch of the same configuration and turns (which breaks a limit: the
+    target is within tolerance of the limit, or that branch's family has a window the sampling missed; the
+    family then counts the member found); else it is a new branch.
+    """
+    q = np.asarray(closest.q, float)
+    placed = turns.place(chain, q[None])[0]
+    t = tuple(int(round(x)) for x in np.where(chain.revolute, (q - placed) / TWO_PI, 0.0))
+    label, _ = _label(chain.names, closest.configuration, t)
+    same = [k for k, b in enumerate(branches) if b.configuration == closest.configuration and b.turns == t]
+    fam = None
+    if same:
+        old = branches[same[0]]
+        if old.family is not None:
+            f = old.family
+            extra = 1.0 / (f.samples + 1)
+            ranges = f.ranges
+            if ranges is not None and f.joints:
+                ranges = tuple(tuple(sorted(r + ((float(q[j]), float(q[j])),))) for r, j in zip(ranges, f.joints))
+            fam = dataclasses.replace(f, fraction=max(f.fraction, extra), samples=f.samples + 1, ranges=ranges)
+        rest = [b for k, b in enumerate(branches) if k != same[0]]
+    else:
+        rest = list(branches)
+        total += 1
+    new = Branch(closest.q, label, closest.configuration, t, True, (), closest.position_error,
+                 closest.orientation_error, closest.manipulability, closest.distance, True, closest.distance_parts,
+                 fam, 1)
+    return [new] + rest, total
+
+
 def _spread(chain, Q, score, count):
     """``count`` rows of Q far apart in joint space, starting from the best score (lowest)."""
     order = list(np.argsort(score, kind="stable"))
@@ -411,17 +470,14 @@ def _solve(chain, xyz, R, near, tol, method, options):
             v = base_viols[k]
             fam = fams[k]
             words = words_k[k] or "single configuration"
-            if any(t):
-                label = " · ".join([words] + [f"{names[i]} {x:+d} turn" + ("s" if abs(x) > 1 else "")
-                                              for i, x in enumerate(t) if x])
-                nturns = sum(map(abs, t))
-            else:
-                label, nturns = words, 0
+            label, nturns = _label(names, words, t)
             branches.append(Branch(rows[e], label, words, t, not v, v, pe[k], oe[k], man[k], d, True, part, fam,
                                    max(counts[k], 1) if fam is None else 1))
             keys.append((bool(v), round(dref[e], 12), nturns, e))
         keys.sort()
         branches = [branches[x[-1]] for x in keys]
+        branches, dropped = _one_family_per_configuration(branches)
+        total -= dropped
     cap = int(options.get("max_branches", MAX_BRANCHES))
     if len(branches) > cap:
         unlisted += len(branches) - cap
@@ -439,7 +495,11 @@ def _solve(chain, xyz, R, near, tol, method, options):
                          ev.manipulability[0], None if d is None else d[0],
                          ev.position_error[0] <= tol[0] and ev.orientation_error[0] <= tol[1],
                          None if parts is None else parts[0])
-        if ev.position_error[0] > tol[0]:
+        if closest.reaches:  # a member within limits reaches after all (within tolerance of a limit, a
+            # window the sampling of a family missed): the target is reachable, with this branch
+            branches, total = _with_closest(chain, branches, closest, total)
+            reachable, closest = True, None
+        elif ev.position_error[0] > tol[0]:
             nearest_point = ev.tool[0, :3, 3].copy()
             nearest_rotation = ev.tool[0, :3, :3].copy()
             nearest_point.setflags(write=False)
