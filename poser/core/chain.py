@@ -110,6 +110,22 @@ class Joint:
     __hash__ = None
 
 
+def _physical_size(base, head, links, tail) -> float:
+    """See :attr:`Chain.scale`: the base origin → each joint line's nearest point → the tool point path."""
+    G = head
+    p = np.array(base[:3, 3], float)
+    total = 0.0
+    for i in range(len(links) + 1):
+        if i > 0:
+            G = G @ links[i - 1]
+        o, w = G[:3, 3], G[:3, 2] / np.linalg.norm(G[:3, 2])
+        nearest = o + w * float((p - o) @ w)
+        total += float(np.linalg.norm(nearest - p))
+        p = nearest
+    tool = (G @ tail)[:3, 3]
+    return total + float(np.linalg.norm(tool - p))
+
+
 class Chain:
     """A serial chain of revolute and prismatic joints with base and tool transforms.
 
@@ -155,14 +171,16 @@ class Chain:
         self._links = tuple(joints[i].post @ joints[i + 1].pre for i in range(n - 1))
         self._tail = joints[-1].post @ self.tool
         self._derived: dict = {}
-        size = sum(float(np.linalg.norm(j.pre[:3, 3])) + float(np.linalg.norm(j.post[:3, 3])) for j in joints)
-        size += float(np.linalg.norm(self.tool[:3, 3]))
+        size = _physical_size(self.base, self._head, self._links, self._tail)
         size += sum(max(abs(j.lower), abs(j.upper)) for j in joints if not j.is_revolute)
         self.scale = size if size > 1e-12 else 1.0
-        """The arm's size (its length unit): the sum of every fixed offset of the chain (each
-        joint's and the tool's) plus each prismatic joint's largest extent.  The one characteristic
-        length of Poser: it makes lengths and angles comparable (tolerances, condition numbers,
-        dimensionless errors) and sizes what the window draws.  Never zero."""
+        """The arm's size (its length unit): the length of the path from the base origin through
+        each joint's line in turn (to its point nearest the path so far) to the tool point, with every
+        joint at zero, plus each prismatic joint's largest extent.  It depends only on where the
+        joint lines and the tool are, never on how the arm is described (DH convention, frame
+        placement): the same physical arm has the same size.  The one characteristic length of Poser:
+        it makes lengths and angles comparable (tolerances, condition numbers, dimensionless errors)
+        and sizes what the window draws.  Never zero."""
 
     def derived(self, key: str, make):
         """A value computed once from this chain by ``make(chain)`` and kept with it.

@@ -420,3 +420,23 @@ def test_wrong_shapes_are_refused_with_a_clear_message(fn):
         fn(chain, np.zeros((10, 7)))
     with pytest.raises(PoserValueError, match=r"q_user must have shape \(\.\.\., 6\), got shape \(2,\)"):
         chain.q_from_user([1.0, 2.0])
+
+
+def test_the_arm_size_depends_on_the_arm_not_on_its_description():
+    """The same physical arm described in the standard and in the modified DH convention (converted by
+    poser.armfile.convert_convention, which keeps every tool pose) has one size, so tolerances and
+    condition numbers do not change with the description (common practice: a characteristic length
+    makes a Jacobian's condition number unit-consistent)."""
+    from pathlib import Path
+
+    from poser.armfile import convert_convention, load
+    from poser.core.jacobian import condition_number
+
+    for path in sorted((Path(__file__).resolve().parents[2] / "demo_arms").glob("*.toml")):
+        spec = load(path)
+        other = "modified" if spec.convention == "standard" else "standard"
+        a, b = spec.to_chain(), convert_convention(spec, other).to_chain()
+        assert a.scale == pytest.approx(b.scale, rel=1e-12), path.name
+        q = a.home
+        np.testing.assert_allclose(a.fk(q), b.fk(q), atol=1e-9 * a.scale)
+        assert condition_number(a, q) == pytest.approx(condition_number(b, q), rel=1e-9), path.name
