@@ -25,6 +25,8 @@ __all__ = [
     "from_xyz_rpy",
     "as_xyz_rpy",
     "rpy_to_matrix",
+    "quaternion_to_matrix",
+    "matrix_to_quaternion",
     "matrix_to_rpy",
     "invert",
     "translation",
@@ -270,3 +272,48 @@ def rot_axis(axis, angle):
     K[..., 0, 1], K[..., 0, 2], K[..., 1, 2] = -w[..., 2], w[..., 1], -w[..., 0]
     K[..., 1, 0], K[..., 2, 0], K[..., 2, 1] = w[..., 2], -w[..., 1], w[..., 0]
     return np.eye(3) + np.asarray(s)[..., None, None] * K + (1.0 - np.asarray(c))[..., None, None] * (K @ K)
+
+
+def quaternion_to_matrix(quat):
+    """Rotation matrices from unit quaternions ``quat`` (..., 4) ordered w, x, y, z (any non-zero length:
+    normalised) → (..., 3, 3)."""
+    q = np.asarray(quat, dtype=float)
+    if q.ndim < 1 or q.shape[-1] != 4:
+        raise PoserValueError(f"quat must have shape (..., 4), got shape {q.shape}")
+    n = np.linalg.norm(q, axis=-1, keepdims=True)
+    if np.any(n < 1e-12):
+        raise PoserValueError("quat must not be zero")
+    w, x, y, z = np.moveaxis(q / n, -1, 0)
+    return np.stack(
+        [
+            np.stack([1 - 2 * (y * y + z * z), 2 * (x * y - z * w), 2 * (x * z + y * w)], -1),
+            np.stack([2 * (x * y + z * w), 1 - 2 * (x * x + z * z), 2 * (y * z - x * w)], -1),
+            np.stack([2 * (x * z - y * w), 2 * (y * z + x * w), 1 - 2 * (x * x + y * y)], -1),
+        ],
+        -2,
+    )
+
+
+def matrix_to_quaternion(R):
+    """Unit quaternions (..., 4), w, x, y, z with w ≥ 0, of rotation matrices ``R`` (..., 3, 3).
+
+    The largest of the four squared components is taken first (Shepperd's method, numerically safe for
+    every rotation)."""
+    R = np.asarray(R, dtype=float)
+    if R.ndim < 2 or R.shape[-2:] != (3, 3):
+        raise PoserValueError(f"R must have shape (..., 3, 3), got shape {R.shape}")
+    m00, m11, m22 = R[..., 0, 0], R[..., 1, 1], R[..., 2, 2]
+    sq = np.stack([1 + m00 + m11 + m22, 1 + m00 - m11 - m22, 1 - m00 + m11 - m22, 1 - m00 - m11 + m22], -1)
+    k = np.argmax(sq, axis=-1)
+    s = np.sqrt(np.maximum(np.take_along_axis(sq, k[..., None], -1)[..., 0], 1e-300)) * 2.0  # 4 × the largest
+    d21, d02, d10 = R[..., 2, 1] - R[..., 1, 2], R[..., 0, 2] - R[..., 2, 0], R[..., 1, 0] - R[..., 0, 1]
+    s21, s02, s10 = R[..., 2, 1] + R[..., 1, 2], R[..., 0, 2] + R[..., 2, 0], R[..., 1, 0] + R[..., 0, 1]
+    cands = [
+        np.stack([s / 4, d21 / s, d02 / s, d10 / s], -1),
+        np.stack([d21 / s, s / 4, s10 / s, s02 / s], -1),
+        np.stack([d02 / s, s10 / s, s / 4, s21 / s], -1),
+        np.stack([d10 / s, s02 / s, s21 / s, s / 4], -1),
+    ]
+    q = np.choose(k[..., None], cands)
+    q = q / np.linalg.norm(q, axis=-1, keepdims=True)
+    return np.where(q[..., :1] < 0, -q, q)

@@ -7,14 +7,20 @@ otherwise.  Every function takes plain numpy arrays.
 from __future__ import annotations
 
 import math
-import warnings
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy.spatial.transform import Rotation
 
 from poser.core.chain import Chain
 from poser.core.jacobian import joint_axes
+from poser.core.transforms import (
+    matrix_to_quaternion,
+    matrix_to_rpy,
+    quaternion_to_matrix,
+    rot_axis,
+    rotation_vector,
+    rpy_to_matrix,
+)
 
 __all__ = [
     "ArmDrawing",
@@ -29,7 +35,6 @@ __all__ = [
     "values_from_rotation",
     "format_matrix",
     "interpolate_q",
-    "distinct_drawings",
     "segment_transforms",
     "axis_body_transforms",
     "is_upright",
@@ -48,7 +53,7 @@ __all__ = [
     "gizmo_axes",
     "GhostGroup",
     "ghost_groups",
-    "GhostCache",
+    "strong_group",
     "below_marks",
 ]
 
@@ -667,32 +672,11 @@ def ghost_groups(chain: Chain, branches, tol: float = 1e-6) -> tuple[list[GhostG
     return groups, index
 
 
-class GhostCache:
-    """:func:`ghost_groups` kept for one IK result and arm (ghosts depend on the branches, not on the pose)."""
-
-    def __init__(self):
-        self._key = None
-        self.groups: list[GhostGroup] = []
-        self.index: list[int] = []
-
-    def get(self, chain: Chain, result) -> tuple[list[GhostGroup], list[int]]:
-        """Groups and per-branch group index for ``result`` (an IK result or None) on ``chain``.
-
-        A result made for another arm (joint count differs: the state clears it right after an arm
-        change) gives no ghosts rather than an error.
-        """
-        if self._key is None or self._key[0] is not result or self._key[1] is not chain:
-            branches = tuple(result.branches) if result is not None else ()
-            if any(np.shape(b.q) != (chain.n,) for b in branches):
-                branches = ()
-            self.groups, self.index = ghost_groups(chain, branches)
-            self._key = (result, chain)
-        return self.groups, self.index
-
-    def strong(self, hovered: int, selected: int) -> int:
-        """The group of the hovered branch, else of the selected one; -1 for none."""
-        row = hovered if hovered >= 0 else selected
-        return self.index[row] if 0 <= row < len(self.index) else -1
+def strong_group(index, hovered: int, selected: int) -> int:
+    """The ghost group (of :func:`ghost_groups`' ``index``) of the hovered branch, else of the selected one;
+    -1 for none."""
+    row = hovered if hovered >= 0 else selected
+    return index[row] if 0 <= row < len(index) else -1
 
 
 def nice_spacing(extent: float, lines: int = 10) -> float:
@@ -765,37 +749,33 @@ def rotation_from_values(mode: str, values, angle_to_rad: float = 1.0) -> np.nda
     """
     v = np.asarray(values, float)
     if mode == "rpy":
-        return Rotation.from_euler("xyz", v[:3] * angle_to_rad).as_matrix()
+        return rpy_to_matrix(v[:3] * angle_to_rad)
     if mode == "axis-angle":
         axis = v[:3]
         n = np.linalg.norm(axis)
         if n < 1e-12:
             raise ValueError("the rotation axis must not be zero")
-        return Rotation.from_rotvec(axis / n * v[3] * angle_to_rad).as_matrix()
+        return rot_axis(axis / n, v[3] * angle_to_rad)
     if mode == "quaternion":
         if np.linalg.norm(v[:4]) < 1e-12:
             raise ValueError("the quaternion must not be zero")
-        w, x, y, z = v[:4]
-        return Rotation.from_quat([x, y, z, w]).as_matrix()
+        return quaternion_to_matrix(v[:4])
     raise ValueError(f"mode must be one of {', '.join(ORIENTATION_MODES)}, got {mode!r}")
 
 
 def values_from_rotation(mode: str, R, angle_to_rad: float = 1.0) -> np.ndarray:
-    """The values of rotation ``R`` (3, 3) in one notation (inverse of :func:`rotation_from_values`)."""
-    rot = Rotation.from_matrix(np.asarray(R, float))
+    """The values of rotation ``R`` (3, 3) in one notation (inverse of :func:`rotation_from_values`; the
+    core's conversions, so the window and the command line print the same angles, gimbal lock included)."""
+    R = np.asarray(R, float)
     if mode == "rpy":
-        with warnings.catch_warnings():  # at pitch ±90° scipy warns of gimbal lock; roll + yaw is still exact
-            warnings.simplefilter("ignore", UserWarning)
-            return rot.as_euler("xyz") / angle_to_rad
+        return matrix_to_rpy(R) / angle_to_rad
     if mode == "axis-angle":
-        rv = rot.as_rotvec()
+        rv = rotation_vector(R)
         ang = float(np.linalg.norm(rv))
         axis = rv / ang if ang > 1e-12 else np.array([0.0, 0.0, 1.0])
         return np.concatenate([axis, [ang / angle_to_rad]])
     if mode == "quaternion":
-        x, y, z, w = rot.as_quat()
-        q = np.array([w, x, y, z])
-        return q if w >= 0 else -q
+        return matrix_to_quaternion(R)
     raise ValueError(f"mode must be one of {', '.join(ORIENTATION_MODES)}, got {mode!r}")
 
 
@@ -829,31 +809,6 @@ def format_matrix(T, style: str = "text", digits: int = 6) -> str:
     if style == "csv":
         return "\n".join(",".join(row) for row in cells)
     raise ValueError(f"style must be 'text', 'numpy' or 'csv', got {style!r}")
-
-
-def distinct_drawings(chain: Chain, qs, tol: float = 1e-6):
-    """Drawings of configurations ``qs`` with look-alikes merged (a joint a full turn apart draws the same).
-
-    Returns
-    -------
-    drawings : list of ArmDrawing
-    index : list of int
-        For each configuration, the index of its drawing.
-    """
-    drawings: list[ArmDrawing] = []
-    keys: list[np.ndarray] = []
-    index = []
-    scale = chain.scale
-    for q in qs:
-        d = arm_drawing(chain, q)
-        key = np.concatenate([d.frames[:, :3, 3].reshape(-1) / scale, d.frames[:, :3, :3].reshape(-1)])
-        hit = next((k for k, other in enumerate(keys) if np.allclose(other, key, atol=tol)), None)
-        if hit is None:
-            keys.append(key)
-            drawings.append(d)
-            hit = len(drawings) - 1
-        index.append(hit)
-    return drawings, index
 
 
 def interpolate_q(q0, q1, s: float) -> np.ndarray:

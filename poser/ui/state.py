@@ -124,8 +124,16 @@ def branch_infos(chain: Chain, branches) -> tuple:
 
 
 def ghost_drawings(chain: Chain, branches):
-    """``(drawings, index)`` for the branches' ghosts (Qt-free: the solver's worker thread calls it)."""
-    return geometry.distinct_drawings(chain, [b.q for b in branches])
+    """``(groups, index)`` of :func:`poser.ui.geometry.ghost_groups` for the branches' ghosts, every group's
+    drawing made (Qt-free: the solver's worker thread calls it).  Branches of another arm (the state clears
+    them right after an arm change) give no ghosts."""
+    branches = tuple(branches)
+    if any(np.shape(b.q) != (chain.n,) for b in branches):
+        return [], []
+    groups, index = geometry.ghost_groups(chain, branches)
+    for g in groups:
+        g.drawing  # noqa: B018 - made here, on the worker, not when first drawn
+    return groups, index
 
 
 def same_kinematics(a: Chain, b: Chain) -> bool:
@@ -241,8 +249,9 @@ class PoseState(QObject):
         return self._rows
 
     def ghost_drawings(self):
-        """``(drawings, index)`` of every branch (:func:`poser.ui.geometry.distinct_drawings`: look-alikes
-        merged; ``index[i]`` is branch ``i``'s drawing), made once per result — on the solver's worker."""
+        """``(groups, index)`` of every branch's ghost (:func:`poser.ui.geometry.ghost_groups`: look-alikes
+        merged; ``index[i]`` is branch ``i``'s group), made once per result — on the solver's worker.  The
+        3D and the 2D view draw from it."""
         if self._drawings is None or len(self._drawings[1]) != len(self.branches):
             self._drawings = ghost_drawings(self._chain, self.branches)
         return self._drawings

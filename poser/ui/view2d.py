@@ -111,7 +111,6 @@ class View2D(QWidget):
         legend.setContentsMargins(12, 12, 12, 12)
         lay.addWidget(legend, 2, 1)
         self._trail = geometry.ToolTrail()
-        self._ghosts = geometry.GhostCache()
         self.below_parts: list = []
         state.changed.connect(self._on_state)
         self.redraw()
@@ -152,8 +151,8 @@ class View2D(QWidget):
         st = self.state
         if not st.option("show_ghosts"):
             return [], []
-        groups, _ = self._ghosts.get(st.chain, st.ik)
-        strong = self._ghosts.strong(st.hovered, st.selected)
+        groups, index = st.ghost_drawings()
+        strong = geometry.strong_group(index, st.hovered, st.selected)
         within_only = bool(st.options.get(GHOSTS_WITHIN_ONLY, False))
         keep = [k for k, g in enumerate(groups) if g.within_limits or not within_only][:MAX_GHOSTS]
         if strong >= 0 and strong not in keep:

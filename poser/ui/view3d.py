@@ -197,7 +197,6 @@ class View3D(QWidget):
         self.view.addItem(self.labels)
         self.view.addItem(self.gizmo)
         self._trail = geometry.ToolTrail()
-        self._ghost_cache = geometry.GhostCache()
         self.below_parts: list = []
 
         bar = QHBoxLayout()
@@ -345,7 +344,6 @@ class View3D(QWidget):
             b.blockSignals(True)
             b.setChecked(bool(st.option(key)))
             b.blockSignals(False)
-        self._ghost_cache = geometry.GhostCache()
         self._draw_pose()
         self._draw_target()
         self._draw_ghosts()
@@ -406,20 +404,20 @@ class View3D(QWidget):
     @property
     def ghost_groups(self) -> list:
         """The ghosts of the state's branches (:class:`poser.ui.geometry.GhostGroup`), made once per IK result."""
-        return self._ghost_cache.get(self.state.chain, self.state.ik)[0]
+        return self.state.ghost_drawings()[0]
 
     @property
     def ghost_index(self) -> list:
         """For each branch, its ghost group."""
-        return self._ghost_cache.get(self.state.chain, self.state.ik)[1]
+        return self.state.ghost_drawings()[1]
 
     def _draw_ghosts(self) -> None:
         st = self.state
-        groups, _ = self._ghost_cache.get(st.chain, st.ik)
+        groups, index = st.ghost_drawings()
         if not groups or not st.option("show_ghosts"):
             self.ghosts.set_visible(False)
             return
-        strong = self._ghost_cache.strong(st.hovered, st.selected)
+        strong = geometry.strong_group(index, st.hovered, st.selected)
         self.ghosts.setData(groups=groups, radius=self.radius, strong=strong,
                             within_only=bool(st.options.get(GHOSTS_WITHIN_ONLY, False)))
         self.ghosts.set_visible(True)

@@ -155,3 +155,29 @@ def test_rotation_error_matches_scipy_magnitude(rng):
 def test_wrong_shapes_name_the_argument(call, match):
     with pytest.raises(PoserValueError, match=match):
         call()
+
+
+def test_quaternions_agree_with_scipy_both_ways():
+    """Against scipy.spatial.transform.Rotation (a general-purpose library; scalar-last there, w first here)."""
+    from scipy.spatial.transform import Rotation
+
+    from poser.core.transforms import matrix_to_quaternion, quaternion_to_matrix
+
+    rots = Rotation.random(500, random_state=3)
+    extra = Rotation.from_rotvec([[np.pi, 0, 0], [0, np.pi, 0], [0, 0, np.pi], [0, 0, 0],
+                                  [np.pi / np.sqrt(2)] * 2 + [0]])
+    for r in (rots, extra):
+        R = r.as_matrix()
+        xyzw = r.as_quat()
+        wxyz = np.concatenate([xyzw[:, 3:], xyzw[:, :3]], axis=1)
+        wxyz *= np.where(wxyz[:, :1] < 0, -1.0, 1.0)
+        np.testing.assert_allclose(quaternion_to_matrix(wxyz), R, atol=1e-14)
+        got = matrix_to_quaternion(R)
+        assert np.all(got[:, 0] >= 0)
+        # q and -q are one rotation (w = 0 leaves the sign open): compare the rotations and |q·q'| = 1
+        np.testing.assert_allclose(np.abs(np.sum(got * wxyz, axis=1)), 1.0, atol=1e-12)
+        np.testing.assert_allclose(quaternion_to_matrix(got), R, atol=1e-14)
+    with pytest.raises(PoserValueError, match="quat must not be zero"):
+        quaternion_to_matrix([0, 0, 0, 0])
+    with pytest.raises(PoserValueError, match=r"quat must have shape \(\.\.\., 4\), got shape \(3,\)"):
+        quaternion_to_matrix([1, 0, 0])

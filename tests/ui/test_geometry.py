@@ -133,16 +133,6 @@ def test_trail_keeps_a_bounded_history():
     np.testing.assert_array_equal(t.points[:, 0], [2, 3, 4])
 
 
-def test_look_alike_branches_draw_once(heron):
-    q = heron.q_from_user(np.array([10, 20, 30, 40, 50, 60.0]))
-    q_turn = q.copy()
-    q_turn[5] += 2 * np.pi
-    q_other = q.copy()
-    q_other[2] += 0.5
-    drawings, index = geometry.distinct_drawings(heron, [q, q_turn, q_other])
-    assert len(drawings) == 2 and index == [0, 0, 1]
-
-
 def test_interpolation_eases_from_start_to_end():
     a, b = np.zeros(3), np.array([1.0, 2.0, -4.0])
     np.testing.assert_allclose(geometry.interpolate_q(a, b, 0), a)
@@ -371,14 +361,12 @@ def test_ghost_groups_merge_look_alikes_on_the_same_side_of_the_limits(heron):
         geometry.ghost_groups(heron, [_Branch(np.zeros(4))])
 
 
-def test_the_ghost_cache_keeps_groups_per_result_and_drops_another_arms(heron, planar):
-    class Result:
-        def __init__(self, branches):
-            self.branches = branches
+def test_the_strong_ghost_is_the_hovered_else_the_selected_branchs_and_another_arms_give_none(heron, planar):
+    from poser.ui.state import ghost_drawings
 
-    r = Result([_Branch(heron.home)])
-    cache = geometry.GhostCache()
-    groups, index = cache.get(heron, r)
-    assert cache.get(heron, r)[0] is groups and index == [0]
-    assert cache.strong(-1, 0) == 0 and cache.strong(-1, -1) == -1 and cache.strong(5, -1) == -1
-    assert cache.get(planar, r) == ([], [])  # a Heron result while Planar 3 is shown: no ghosts, no error
+    groups, index = ghost_drawings(heron, [_Branch(heron.home)])
+    assert index == [0] and groups[0].drawing is groups[0].drawing  # made once, on the worker
+    assert geometry.strong_group(index, -1, 0) == 0 and geometry.strong_group(index, -1, -1) == -1
+    assert geometry.strong_group(index, 5, -1) == -1
+    assert ghost_drawings(planar, [_Branch(heron.home)]) == ([], [])  # a Heron result while Planar 3 is shown
+
