@@ -21,16 +21,24 @@ SECTIONS = [
      "axis. Triads show "
      "x (red), y (green), z (blue): 'base' and 'tool' always, every joint frame (F1, F2, …) with "
      "<i>Joint frames</i>. The floor grid's spacing is written above the view and on the floor. "
-     "<i>Trail</i> draws the tool point's path; <i>Ghosts</i> shows IK branches as see-through arms. "
-     "Mouse: left-drag orbits, middle-drag (or Ctrl + left-drag) pans, the wheel zooms. Keys in the view: "
-     "F front, S side, T top, I isometric, A fit the arm."),
+     "<i>Trail</i> draws the tool point's path; <i>Ghosts</i> shows IK branches as ghost arms carrying their "
+     "row numbers (the list's #): see-through bodies within the limits, dashed lines beyond them; the hovered "
+     "or selected row's ghost is drawn strong, look-alikes (a joint a whole turn apart) share one ghost and "
+     "its numbers ('1–6'). An unreachable target shows the nearest reachable point as an amber ball with a "
+     "dashed line to the target. Parts of the arm below the floor or behind a wall or ceiling mount are "
+     "drawn red with their depth. The small X, Y, Z axes in the corner turn with the camera. "
+     "Mouse: left-drag orbits, middle-drag (or Ctrl + left-drag) pans, the wheel zooms (Ctrl + wheel in finer "
+     "steps). Keys in the view: F front, S side, T top, I isometric, A fit the arm, O orthographic projection "
+     "(again for perspective: Front, Side and Top true to scale), arrow keys orbit (Shift: in bigger steps), "
+     "+ and − zoom. A target typed out of sight brings itself into the view."),
     ("Mounting and 'up'",
      "'Up' is the arm's base frame z axis: away from the surface the arm is mounted on. For a floor-mounted arm "
      "that is the world's up; for an arm on a wall or hanging from a ceiling (a base turned by the arm file's "
      "[base] rpy) it points out of the wall or down from the ceiling, and 'shoulder front', 'elbow up' and the "
      "mounting plane are meant in that frame. The mounting plane is the base frame's x-y plane: when a point of "
-     "the arm or tool goes below it, the status bar says so in red (BELOW THE MOUNTING PLANE) — a real arm would "
-     "hit its floor, wall or ceiling there."),
+     "the arm or tool goes below the floor or behind its wall or ceiling, the status bar says so in red (BELOW "
+     "THE FLOOR, BEHIND THE MOUNTING SURFACE) with the part and its depth — a real arm would hit it there. An "
+     "arm on a riser is also marked amber in the 3D view where it reaches below the riser's top."),
     ("Joints",
      "One row per joint: name, a slider over the joint's range, the value in the arm's units and the limits; "
      "under the name the joint's type and unit (<i>rotary joint, deg</i>: a revolute joint that turns; "

@@ -254,6 +254,15 @@ class MainWindow(QMainWindow):
         for key, text in (("front", "&Front"), ("side", "&Side"), ("top", "&Top"), ("iso", "&Isometric")):
             self._act(vm, text, lambda k=key: self.view.set_view(k))
         self._act(vm, "Fit &arm", lambda: self.view.fit())
+        ortho_button = getattr(self.view, "buttons", {}).get("ortho")
+        if ortho_button is not None:  # the 3D view (the 2D fallback has no projection to switch)
+            ortho = QAction("&Orthographic projection", self)
+            ortho.setCheckable(True)
+            ortho.setToolTip(ortho_button.toolTip())
+            ortho.toggled.connect(ortho_button.setChecked)
+            ortho_button.toggled.connect(ortho.setChecked)
+            vm.addAction(ortho)
+            self.ortho_action = ortho
         vm.addSeparator()
         for k, key in enumerate(("view", "joints", "frames", "target", "editor"), start=1):
             act = self.docks[key].toggleViewAction()

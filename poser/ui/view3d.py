@@ -317,6 +317,18 @@ class View3D(QWidget):
         elev, azim = self._elev_azim
         self.view.setCameraPosition(pos=QVector3D(*centre), distance=dist, elevation=elev, azimuth=azim)
 
+    def in_view(self, point, margin: float = 0.05) -> bool:
+        """Whether a world point (3,) is in front of the camera and inside the view, ``margin`` (a share of
+        the half width) in from its edges."""
+        w, h = max(self.view.width(), 1), max(self.view.height(), 1)
+        vp = (0, 0, w, h)
+        M = np.array((self.view.projectionMatrix(vp, vp) * self.view.viewMatrix()).data(), float).reshape(4, 4).T
+        c = M @ np.append(np.asarray(point, float), 1.0)
+        if c[3] <= 1e-12:
+            return False
+        x, y = c[0] / c[3], c[1] / c[3]
+        return abs(x) <= 1.0 - margin and abs(y) <= 1.0 - margin
+
     def camera(self) -> tuple[float, float, float]:
         o = self.view.opts
         return float(o["elevation"]), float(o["azimuth"]), float(o["distance"])
@@ -446,6 +458,9 @@ class View3D(QWidget):
         elif field == "target":
             self._draw_target()
             self._draw_nearest()
+            t = self.state.target
+            if t is not None and self.isVisible() and not self.in_view(t.xyz):
+                self.fit()  # a target typed out of sight: bring it (and the arm) into the view
         elif field == "ik":
             self._draw_ghosts()
             self._draw_nearest()

@@ -410,3 +410,29 @@ def test_labels_and_gizmo_are_painted_whole_after_culled_bodies(make_window):
     plate = next(p for p in view.labels.layout() if p.text == "target")
     px = img.pixelColor(int((plate.x + 1.5) * dpr), int((plate.y + plate.h / 2) * dpr))
     assert px.red() >= 240 and px.green() >= 240  # the pale plate, not the scene behind it
+
+
+def test_a_target_typed_out_of_sight_brings_itself_into_the_view(make_window):
+    win = make_window(ROOT / "demo_arms" / "wren6.toml")
+    view = rendered(win)
+    far = np.array([0.0, 0.0, 6000.0])  # far above the arm: out of the fitted view
+    assert not view.in_view(far)
+    win.set_target_values([*far.tolist(), 0, 0, 0])
+    assert view.in_view(far)
+    # the arm is still in the view, the target with it
+    assert all(view.in_view(p) for p in win.state.drawing().frames[:, :3, 3])
+    # a target already in sight does not move the camera
+    cam = view.camera()
+    win.set_target_values([300, 0, 900, 0, 0, 0])
+    assert view.camera() == cam
+
+
+def test_the_view_menu_switches_the_projection_with_the_view_button(make_window):
+    win = make_window()
+    view = rendered(win)
+    act = win.ortho_action
+    assert not act.isChecked() and not view.view.ortho
+    act.trigger()
+    assert view.view.ortho and view.buttons["ortho"].isChecked()
+    view.buttons["ortho"].click()
+    assert not view.view.ortho and not act.isChecked()
