@@ -104,3 +104,20 @@ def test_no_module_level_import_cycles():
     for n in sorted(graph):
         visit(n)
     assert not cycles, f"import cycles: {cycles[:5]}"
+
+
+def test_numba_is_loaded_only_for_large_batches():
+    """The compiled FK backend's numba (about 0.3 s to import, seconds to compile) stays out of the window's
+    start-up and of every import: only a batch of COMPILED_MIN poses or more loads it."""
+    import subprocess
+    import sys
+
+    code = ("import sys, numpy as np; import poser.core, poser.core.ik, poser.cli, poser.ui.main_window; "
+            "from poser.armfile import load; c = load('demo_arms/heron6.toml').to_chain(); "
+            "from poser.core.fk import COMPILED_MIN; c.fk(np.zeros((COMPILED_MIN - 1, 6))); "
+            "print('numba' in sys.modules)")
+    root = __import__("pathlib").Path(__file__).resolve().parents[1]
+    out = subprocess.run([sys.executable, "-c", code], cwd=root, capture_output=True, text=True, timeout=120,
+                         env={**__import__("os").environ, "QT_QPA_PLATFORM": "offscreen"})
+    assert out.returncode == 0, out.stderr
+    assert out.stdout.strip() == "False"

@@ -16,13 +16,19 @@ from poser.core._fkkernel import build_kernel, build_scalar_kernel
 from poser.core.chain import Chain
 from poser.core.errors import PoserValueError
 
-__all__ = ["fk", "frames", "link_transforms", "CHUNK"]
+__all__ = ["fk", "frames", "link_transforms", "CHUNK", "COMPILED_MIN"]
 
 CHUNK = 4096
 """Poses computed together in the batched kernel: small enough that a
 chunk's working arrays stay in the CPU cache."""
 
 _PARALLEL_MIN = 4 * CHUNK
+"""Batches of the numpy backend at least this large are split over the worker threads."""
+COMPILED_MIN = 16384
+"""From this many poses on, batched FK uses the compiled backend where numba is installed (smaller
+batches — a window's ghosts, one IK solve — never wait for numba to load or compile)."""
+COMPILED_CHUNK = 65536
+"""Poses per task of the compiled backend (the tasks share the worker threads)."""
 _pool: ThreadPoolExecutor | None = None
 
 
@@ -76,14 +82,37 @@ def fk(chain: Chain, q, out=None):
         res = np.empty((N, 4, 4))
     else:
         res = out.reshape(N, 4, 4)  # a view: out is C-contiguous
-    _kernel(chain)  # build once, before any worker thread needs it
-    starts = range(0, N, CHUNK)
-    if N >= _PARALLEL_MIN and _workers() > 1:
-        list(_get_pool().map(lambda s: _fk_chunk(chain, flat[s : s + CHUNK], res[s : s + CHUNK]), starts))
+    compiled = _backend(chain, N)
+    if compiled is not None:
+        step = COMPILED_CHUNK
+
+        def run(s):
+            compiled(flat[s : s + step], res[s : s + step])
+    else:
+        _kernel(chain)  # build once, before any worker thread needs it
+        step = CHUNK
+
+        def run(s):
+            _fk_chunk(chain, flat[s : s + step], res[s : s + step])
+    starts = range(0, N, step)
+    if N >= (4 * step if compiled is not None else _PARALLEL_MIN) and _workers() > 1:
+        list(_get_pool().map(run, starts))
     else:
         for s in starts:
-            _fk_chunk(chain, flat[s : s + CHUNK], res[s : s + CHUNK])
+            run(s)
     return res.reshape(lead + (4, 4)) if out is None else out
+
+
+def _backend(chain: Chain, N: int):
+    """The one choice of backend for a batch of ``N`` poses: the compiled kernel
+    (:mod:`poser.core._fkcompiled`) from :data:`COMPILED_MIN` poses on where it is available, else
+    None — the generated numpy kernel.  It depends only on ``N`` and the installation, so the same
+    input always goes the same way."""
+    if N < COMPILED_MIN:
+        return None
+    from poser.core import _fkcompiled
+
+    return _fkcompiled.kernel(chain)
 
 
 def _fk_single(chain: Chain, q) -> np.ndarray:

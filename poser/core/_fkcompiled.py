@@ -1,0 +1,111 @@
+"""The compiled backend of forward kinematics: the chain's one plan (:mod:`poser.core._fkkernel`) as a
+loop over poses, compiled by numba.
+
+Why: numpy's sine and cosine cost about 11 ns a value here and every numpy operation passes over the
+whole chunk, so the generated numpy kernel runs at about 5× a compiled kernel.  The loop
+(:func:`poser.core._fkkernel.build_loop_source`) is the straight-line plan of the scalar kernel with a
+sine-and-cosine written so that the compiler vectorises it across poses.
+
+How: the generated module is written once per arm into the kernel cache (``POSER_CACHE_DIR`` or
+``$XDG_CACHE_HOME/poser/kernels``, else ``~/.cache/poser/kernels``), named by a hash of its text, and
+imported; numba keeps the machine code beside it (``cache=True``), so only the first batch of a new
+arm on a machine pays the compilation (about a second).  numba is imported only when a batch large
+enough for this backend comes (:data:`poser.core.fk.COMPILED_MIN` poses): the window's start-up and
+single poses never touch it.  Without numba (or with ``POSER_NO_COMPILE=1``) forward kinematics uses
+the numpy backend for every size.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import importlib.util
+import os
+import sys
+import tempfile
+import threading
+from pathlib import Path
+
+import numpy as np
+
+from poser.core._fkkernel import build_loop_source
+
+__all__ = ["available", "kernel", "cache_dir", "problem"]
+
+_lock = threading.Lock()
+_state: dict = {}
+
+
+def available() -> bool:
+    """Whether the compiled backend can be used here (numba imports; not switched off)."""
+    if os.environ.get("POSER_NO_COMPILE", "") not in ("", "0"):
+        return False
+    if "numba" not in _state:
+        try:
+            import numba  # noqa: F401
+        except Exception as exc:  # pragma: no cover - depends on the installation
+            _state["numba"] = None
+            _state["problem"] = f"numba does not import: {exc}"
+        else:
+            _state["numba"] = numba.__version__
+    return _state["numba"] is not None
+
+
+def problem() -> str | None:
+    """Why the compiled backend was not used last (None when nothing went wrong)."""
+    if os.environ.get("POSER_NO_COMPILE", "") not in ("", "0"):
+        return "switched off by POSER_NO_COMPILE"
+    return _state.get("problem")
+
+
+def cache_dir() -> Path:
+    """Where generated kernels and their machine code are kept (made if missing)."""
+    env = os.environ.get("POSER_CACHE_DIR")
+    if env:
+        base = Path(env)
+    else:
+        xdg = os.environ.get("XDG_CACHE_HOME")
+        base = (Path(xdg) if xdg else Path.home() / ".cache") / "poser"
+    d = base / "kernels"
+    try:
+        d.mkdir(parents=True, exist_ok=True)
+        probe = d / f".probe-{os.getpid()}"
+        probe.write_text("")
+        probe.unlink()
+    except OSError:
+        d = Path(tempfile.gettempdir()) / f"poser-kernels-{os.getuid() if hasattr(os, 'getuid') else 'user'}"
+        d.mkdir(parents=True, exist_ok=True)
+    return d
+
+
+def kernel(chain):
+    """The chain's compiled kernel ``kernel(Q (m, n), out (m, 4, 4))`` (made once per chain), or None when
+    the backend is not available or the kernel cannot be built here (then the numpy backend is used)."""
+    return chain.derived("fk_compiled", _make)
+
+
+def _make(chain):
+    if not available():
+        return None
+    source = build_loop_source(chain._head, chain._links, chain._tail, chain.revolute)
+    digest = hashlib.sha256((source + _state["numba"]).encode()).hexdigest()[:20]
+    with _lock:
+        try:
+            d = cache_dir()
+            path = d / f"fk_{digest}.py"
+            if not path.exists() or path.read_text() != source:
+                tmp = d / f".fk_{digest}.{os.getpid()}.{threading.get_ident()}.tmp"
+                tmp.write_text(source)
+                os.replace(tmp, path)
+            name = f"poser_fk_{digest}"
+            module = sys.modules.get(name)
+            if module is None:
+                spec = importlib.util.spec_from_file_location(name, path)
+                module = importlib.util.module_from_spec(spec)
+                sys.modules[name] = module  # numba's cache finds the module by name when it loads
+                spec.loader.exec_module(module)
+            k = module.kernel
+            k(np.zeros((1, chain.n)), np.empty((1, 4, 4)))  # compile (or load) now, once, under the lock
+            return k
+        except Exception as exc:  # pragma: no cover - an unwritable cache, a broken numba: numpy instead
+            _state["problem"] = f"the compiled kernel for {chain.name!r} could not be built: {exc}"
+            return None
