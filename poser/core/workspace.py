@@ -242,6 +242,8 @@ def workspace(chain, samples: int = 500_000, seed: int = 20261202, keep: int = D
     grid = _Grid(method, coords, origin, phi, frame)
     levels, best = _refine(grid, span, report.part(0.5, 0.4))
     size, error, final = best
+    if "arc_parents" in final:  # the finest grid's azimuths, sorted when contains() first needs them
+        final["arc_source"] = (grid, final.pop("arc_parents"))
     rng = np.random.default_rng(seed + 1)
     pick = np.sort(rng.choice(samples, size=min(keep, samples), replace=False))
     report(0.92)
@@ -341,7 +343,7 @@ class _Grid:
         g = dict(kind=self.method, h=float(size.max()), size=size, shape=shape, occ=closed,
                  origin=self.origin.copy(), **self.frame)
         if arc_keys is not None:
-            g["arc_keys"] = arc_keys
+            g["arc_parents"] = arc_keys
         return 0.5 * (outer_v + inner_v), 0.5 * (outer_v - inner_v), holes / nocc, float(counts.sum()) / nocc, g
 
     def _faces(self, idx, cells, shape):
@@ -384,22 +386,38 @@ class _Grid:
 
     def _arcs(self, shape, idx, closed):
         """Per cell, the measure of the union of arcs [φ, φ + length] over the samples of its parent cell
-        (the 2 × 2 block it is in); and the sorted (parent cell, φ) keys :func:`contains` searches."""
+        (the 2 × 2 block it is in); and the parent shape and cells, for :meth:`arc_keys`.
+
+        For a joint 1 range of half a turn or more only the largest gap between a parent's azimuths can
+        exceed the range, so the union is min(2π, range + the shortest arc holding the azimuths): that arc
+        is read about the azimuths' mean direction (sums per parent, no sorting).  A shorter range needs
+        every gap: the azimuths are sorted within each parent.
+        """
         import scipy.ndimage as nd
 
         length = self.frame["length"]
         pshape = tuple((s + 1) // 2 for s in shape)
         pcell = np.ravel_multi_index(tuple((idx // 2).T), pshape)
-        p = np.mod(self.phi, TWO_PI)
-        order = np.lexsort((p, pcell))
-        c, p = pcell[order], p[order]
-        starts = np.flatnonzero(np.r_[True, c[1:] != c[:-1]])
-        last = np.r_[starts[1:], len(c)] - 1
-        gaps = np.r_[np.diff(p), 0.0]
-        gaps[last] = p[starts] + TWO_PI - p[last]  # each parent's wrap-around gap
-        per = np.add.reduceat(np.maximum(gaps - length, 0.0), starts)
-        parc = np.zeros(int(np.prod(pshape)))
-        parc[c[starts]] = TWO_PI - per
+        npar = int(np.prod(pshape))
+        if length >= math.pi:
+            cs = np.bincount(pcell, np.cos(self.phi), minlength=npar)
+            sn = np.bincount(pcell, np.sin(self.phi), minlength=npar)
+            d = np.mod(self.phi - np.arctan2(sn, cs)[pcell] + math.pi, TWO_PI) - math.pi
+            hi = np.full(npar, -np.inf)
+            lo = np.full(npar, np.inf)
+            np.maximum.at(hi, pcell, d)
+            np.minimum.at(lo, pcell, d)
+            seen = np.isfinite(hi)
+            parc = np.zeros(npar)
+            parc[seen] = np.minimum(TWO_PI, length + (hi[seen] - lo[seen]))
+        else:
+            c, p, starts = _sorted_by_cell(pcell, self.phi)
+            last = np.r_[starts[1:], len(c)] - 1
+            gaps = np.r_[np.diff(p), 0.0]
+            gaps[last] = p[starts] + TWO_PI - p[last]  # each parent's wrap-around gap
+            per = np.add.reduceat(np.maximum(gaps - length, 0.0), starts)
+            parc = np.zeros(npar)
+            parc[c[starts]] = TWO_PI - per
         arc = parc.reshape(pshape)
         for ax in range(len(shape)):
             arc = np.repeat(arc, 2, axis=ax)
@@ -407,7 +425,21 @@ class _Grid:
         lost = closed & (arc <= 0.0)  # a cell the closing filled under an empty parent: its neighbours' arc
         if lost.any():
             arc[lost] = nd.grey_dilation(arc, size=(3,) * len(shape))[lost]
-        return arc, (c.astype(float) * 8.0 + p, pshape)
+        return arc, (pshape, pcell)
+
+    def arc_keys(self, parents):
+        """The sorted (parent cell, azimuth) keys :func:`contains` searches, for the finest grid's parents."""
+        pshape, pcell = parents
+        c, p, _ = _sorted_by_cell(pcell, self.phi)
+        return c.astype(float) * 8.0 + p, pshape
+
+
+def _sorted_by_cell(cell, phi):
+    """``(cells, azimuths in [0, 2π), start of each cell's run)`` sorted by cell, then azimuth."""
+    p = np.mod(phi, TWO_PI)
+    order = np.lexsort((p, cell))
+    c, p = cell[order], p[order]
+    return c, p, np.flatnonzero(np.r_[True, c[1:] != c[:-1]])
 
 
 def _pad(occ, faces, width):
@@ -541,6 +573,9 @@ def contains(ws: Workspace, points):
     ok = np.all((idx >= 0) & (idx < np.array(shape)), axis=1) & on_plane
     inside = np.zeros(len(P), bool)
     inside[ok] = occ[tuple(idx[ok].T)]
+    if "arc_source" in g and "arc_keys" not in g:
+        grid, parents = g["arc_source"]
+        g["arc_keys"] = grid.arc_keys(parents)
     if "arc_keys" in g and inside.any():
         keys, pshape = g["arc_keys"]
         sel = np.flatnonzero(inside)
