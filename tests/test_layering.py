@@ -121,3 +121,20 @@ def test_numba_is_loaded_only_for_large_batches():
                          env={**__import__("os").environ, "QT_QPA_PLATFORM": "offscreen"})
     assert out.returncode == 0, out.stderr
     assert out.stdout.strip() == "False"
+
+
+def test_poser_asks_for_one_blas_thread_when_imported_first():
+    """Small linear algebra on a multithreaded BLAS only spins threads (a busy machine made an unreachable
+    solve 25× slower): importing Poser before numpy sets one BLAS thread unless the user chose otherwise."""
+    import os
+    import subprocess
+    import sys
+
+    code = "import os, poser, numpy; print(os.environ.get('OPENBLAS_NUM_THREADS'))"
+    env = {k: v for k, v in os.environ.items() if k != "OPENBLAS_NUM_THREADS"}
+    root = __import__("pathlib").Path(__file__).resolve().parents[1]
+    out = subprocess.run([sys.executable, "-c", code], cwd=root, capture_output=True, text=True, env=env, timeout=60)
+    assert out.stdout.strip() == "1", out.stderr
+    out = subprocess.run([sys.executable, "-c", code], cwd=root, capture_output=True, text=True,
+                         env={**env, "OPENBLAS_NUM_THREADS": "3"}, timeout=60)
+    assert out.stdout.strip() == "3", out.stderr
