@@ -402,7 +402,7 @@ def sincos(x):
 
 
 def build_loop_source(head, links, tail, revolute) -> str:
-    """The same plan as a compiled loop over poses (numba; see :mod:`poser.core._fkcompiled`): a module
+    """The same plan as a compiled loop over poses (numba; see :mod:`poser.core._compiled`): a module
     whose ``kernel(Q, out)`` writes the tool poses of joint values ``Q`` (m, n) into ``out`` (m, 4, 4).
 
     The loop body is :func:`build_scalar_kernel`'s, with :data:`SINCOS_SOURCE`'s ``sincos`` for the

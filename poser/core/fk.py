@@ -105,14 +105,14 @@ def fk(chain: Chain, q, out=None):
 
 def _backend(chain: Chain, N: int):
     """The one choice of backend for a batch of ``N`` poses: the compiled kernel
-    (:mod:`poser.core._fkcompiled`) from :data:`COMPILED_MIN` poses on where it is available, else
+    (:mod:`poser.core._compiled`) from :data:`COMPILED_MIN` poses on where it is available, else
     None — the generated numpy kernel.  It depends only on ``N`` and the installation, so the same
     input always goes the same way."""
     if N < COMPILED_MIN:
         return None
-    from poser.core import _fkcompiled
+    from poser.core import _compiled
 
-    return _fkcompiled.kernel(chain)
+    return _compiled.fk_kernel(chain)
 
 
 def _fk_single(chain: Chain, q) -> np.ndarray:

@@ -462,10 +462,10 @@ def _random_chain(seed, n=6):
 def test_the_compiled_backend_gives_the_numpy_backends_poses(tmp_path, monkeypatch):
     """Large batches go through the compiled loop (numba); it must give the generated numpy kernel's poses
     to rounding, on every demo arm and on random arms with slides, wide angles and any convention."""
-    from poser.core import _fkcompiled
+    from poser.core import _compiled
 
     monkeypatch.setenv("POSER_CACHE_DIR", str(tmp_path))
-    assert _fkcompiled.available(), _fkcompiled.problem()
+    assert _compiled.available(), _compiled.problem()
     arms = [load(p).to_chain() for p in sorted((Path(__file__).resolve().parents[2] / "demo_arms").glob("*.toml"))]
     arms += [_random_chain(s, n) for s, n in ((1, 6), (2, 7), (3, 3), (4, 1), (5, 9))]
     N = fkmod.COMPILED_MIN
@@ -508,11 +508,11 @@ def test_the_compiled_sine_and_cosine_are_accurate():
 
 
 def test_without_numba_every_batch_takes_the_numpy_backend(monkeypatch):
-    from poser.core import _fkcompiled
+    from poser.core import _compiled
 
     monkeypatch.setenv("POSER_NO_COMPILE", "1")
     chain = _random_chain(11)  # a new chain: nothing compiled for it yet
-    assert not _fkcompiled.available() and _fkcompiled.problem() == "switched off by POSER_NO_COMPILE"
+    assert not _compiled.available() and _compiled.problem() == "switched off by POSER_NO_COMPILE"
     assert fkmod._backend(chain, 10 * fkmod.COMPILED_MIN) is None
     q = np.zeros((fkmod.COMPILED_MIN, chain.n))
     np.testing.assert_allclose(fk(chain, q), np.broadcast_to(chain.fk(np.zeros(chain.n)), (len(q), 4, 4)),

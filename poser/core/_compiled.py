@@ -1,18 +1,18 @@
-"""The compiled backend of forward kinematics: the chain's one plan (:mod:`poser.core._fkkernel`) as a
-loop over poses, compiled by numba.
+"""Compiled backends: generated kernels compiled by numba, kept in a cache on disk.
 
-Why: numpy's sine and cosine cost about 11 ns a value here and every numpy operation passes over the
-whole chunk, so the generated numpy kernel runs at about 5× a compiled kernel.  The loop
-(:func:`poser.core._fkkernel.build_loop_source`) is the straight-line plan of the scalar kernel with a
-sine-and-cosine written so that the compiler vectorises it across poses.
+Forward kinematics runs here (:func:`fk_kernel`, the loop of :func:`poser.core._fkkernel.build_loop_source`:
+the one plan that also has numpy and plain-float renderings).  Why: numpy's float64 sine and cosine cost
+~11 ns a value here and every numpy operation streams its whole chunk, so the numpy kernel runs at about
+5× a compiled loop.  (The closed-form IK's scalar kernel compiled the same way ran no faster than its
+numpy rendering — its arctangents and square roots are library calls that do not vectorise — so it is
+not compiled; :func:`load` serves any generated module.)
 
-How: the generated module is written once per arm into the kernel cache (``POSER_CACHE_DIR`` or
+How: a generated module is written once into the kernel cache (``POSER_CACHE_DIR`` or
 ``$XDG_CACHE_HOME/poser/kernels``, else ``~/.cache/poser/kernels``), named by a hash of its text, and
-imported; numba keeps the machine code beside it (``cache=True``), so only the first batch of a new
-arm on a machine pays the compilation (about a second).  numba is imported only when a batch large
-enough for this backend comes (:data:`poser.core.fk.COMPILED_MIN` poses): the window's start-up and
-single poses never touch it.  Without numba (or with ``POSER_NO_COMPILE=1``) forward kinematics uses
-the numpy backend for every size.
+imported; numba keeps the machine code beside it (``cache=True``), so only the first large batch of a
+new arm on a machine pays the compilation (about a second).  numba is imported only when such a batch
+comes: the window's start-up and single poses never touch it.  Without numba (or with
+``POSER_NO_COMPILE=1``) the numpy backends serve every size; :func:`problem` says why.
 """
 
 from __future__ import annotations
@@ -29,7 +29,7 @@ import numpy as np
 
 from poser.core._fkkernel import build_loop_source
 
-__all__ = ["available", "kernel", "cache_dir", "problem"]
+__all__ = ["available", "fk_kernel", "load", "cache_dir", "problem"]
 
 _lock = threading.Lock()
 _state: dict = {}
@@ -77,35 +77,45 @@ def cache_dir() -> Path:
     return d
 
 
-def kernel(chain):
-    """The chain's compiled kernel ``kernel(Q (m, n), out (m, 4, 4))`` (made once per chain), or None when
+def fk_kernel(chain):
+    """The chain's compiled FK kernel ``kernel(Q (m, n), out (m, 4, 4))`` (made once per chain), or None when
     the backend is not available or the kernel cannot be built here (then the numpy backend is used)."""
-    return chain.derived("fk_compiled", _make)
+    return chain.derived("fk_compiled", _make_fk)
 
 
-def _make(chain):
+def _make_fk(chain):
+    source = build_loop_source(chain._head, chain._links, chain._tail, chain.revolute)
+    n = chain.n
+    return load("fk", source, "kernel", lambda k: k(np.zeros((1, n)), np.empty((1, 4, 4))), chain.name)
+
+
+def load(prefix: str, source: str, entry: str, warm, what: str = ""):
+    """Write ``source`` (a module) into the kernel cache, import it and return its function ``entry``,
+    compiled (or loaded from numba's cache) by calling ``warm(function)`` once — under one lock, so two
+    threads never compile the same kernel.  None when numba is missing or anything fails (the reason is
+    kept for :func:`problem`)."""
     if not available():
         return None
-    source = build_loop_source(chain._head, chain._links, chain._tail, chain.revolute)
     digest = hashlib.sha256((source + _state["numba"]).encode()).hexdigest()[:20]
     with _lock:
         try:
             d = cache_dir()
-            path = d / f"fk_{digest}.py"
+            path = d / f"{prefix}_{digest}.py"
             if not path.exists() or path.read_text() != source:
-                tmp = d / f".fk_{digest}.{os.getpid()}.{threading.get_ident()}.tmp"
+                tmp = d / f".{prefix}_{digest}.{os.getpid()}.{threading.get_ident()}.tmp"
                 tmp.write_text(source)
                 os.replace(tmp, path)
-            name = f"poser_fk_{digest}"
+            name = f"poser_{prefix}_{digest}"
             module = sys.modules.get(name)
             if module is None:
                 spec = importlib.util.spec_from_file_location(name, path)
                 module = importlib.util.module_from_spec(spec)
                 sys.modules[name] = module  # numba's cache finds the module by name when it loads
                 spec.loader.exec_module(module)
-            k = module.kernel
-            k(np.zeros((1, chain.n)), np.empty((1, 4, 4)))  # compile (or load) now, once, under the lock
-            return k
+            fn = getattr(module, entry)
+            warm(fn)
+            return fn
         except Exception as exc:  # pragma: no cover - an unwritable cache, a broken numba: numpy instead
-            _state["problem"] = f"the compiled kernel for {chain.name!r} could not be built: {exc}"
+            where = f" for {what!r}" if what else ""
+            _state["problem"] = f"the compiled {prefix} kernel{where} could not be built: {exc}"
             return None
