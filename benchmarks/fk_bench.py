@@ -20,6 +20,7 @@ import time
 from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
 
+import _timing
 import numpy as np
 
 from poser import armfile
@@ -28,13 +29,6 @@ from poser.core import fk as fkmod
 ROOT = Path(__file__).resolve().parent.parent
 
 
-def _best(fn, repeat):
-    best = float("inf")
-    for _ in range(repeat):
-        t = time.perf_counter()
-        fn()
-        best = min(best, time.perf_counter() - t)
-    return best
 
 
 def run(quick=False):
@@ -44,7 +38,7 @@ def run(quick=False):
     q = rng.uniform(chain.lower, chain.upper, size=(N, chain.n))
     out = np.empty((N, 4, 4))
     chain.fk(q[:10_000], out=out[:10_000])  # build the kernel, warm the pool
-    t_fk = _best(lambda: chain.fk(q, out=out), 5)
+    t_fk = _timing.best(lambda: chain.fk(q, out=out), 5)
 
     # The floor: only the sines and cosines of the same N x n values, computed the
     # way the kernel computes them (cache-sized chunks, same threads) and, for
@@ -63,8 +57,8 @@ def run(quick=False):
         np.cos(x, out=bufs[0])
         np.sin(x, out=bufs[1])
 
-    t_trig = _best(lambda: list(pool.map(trig_chunk, chunks)), 5)
-    t_trig_flat = _best(lambda: (np.sin(q), np.cos(q)), 3)
+    t_trig = _timing.best(lambda: list(pool.map(trig_chunk, chunks)), 5)
+    t_trig_flat = _timing.best(lambda: (np.sin(q), np.cos(q)), 3)
     pool.shutdown()
 
     x = q[0].copy()
@@ -120,7 +114,7 @@ def _alloc_figures(chain, q, rounds=5, repeat=3):
     N = len(q)
     fk = chain.fk
     fk(q)  # compile (or load) the compiled backend first
-    t_default = _best(lambda: fk(q), repeat)
+    t_default = _timing.best(lambda: fk(q), repeat)
     out = {"fk_alloc_per_s": N / t_default,
            "fk_backend": "compiled" if fkmod._backend(chain, N) is not None else "numpy"}
     lib, why = _cref()
@@ -128,7 +122,7 @@ def _alloc_figures(chain, q, rounds=5, repeat=3):
     fkmod._workers = lambda: 1
     try:
         if lib is None:
-            out["fk_alloc_one_core_ns"] = _best(lambda: fk(q), repeat) / N * 1e9
+            out["fk_alloc_one_core_ns"] = _timing.best(lambda: fk(q), repeat) / N * 1e9
             out["fk_cref_one_core_ns"] = f"unavailable: {why}"
             return out
         qT = np.ascontiguousarray(q.T)
@@ -147,8 +141,8 @@ def _alloc_figures(chain, q, rounds=5, repeat=3):
         assert np.abs(cref() - fk(q)).max() < 1e-9 * chain.scale  # the reference computes the same poses
         ours, theirs, ratios = [], [], []
         for _ in range(rounds):
-            a = _best(lambda: fk(q), repeat)
-            b = _best(cref, repeat)
+            a = _timing.best(lambda: fk(q), repeat)
+            b = _timing.best(cref, repeat)
             ours.append(a)
             theirs.append(b)
             ratios.append(a / b)

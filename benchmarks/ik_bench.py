@@ -19,6 +19,7 @@ from __future__ import annotations
 import time
 from pathlib import Path
 
+import _timing
 import numpy as np
 
 from poser import armfile
@@ -28,13 +29,6 @@ from poser.core.transforms import rpy_to_matrix
 ROOT = Path(__file__).resolve().parent.parent
 
 
-def _median_time(fn, items):
-    times = []
-    for it in items:
-        t = time.perf_counter()
-        fn(it)
-        times.append(time.perf_counter() - t)
-    return float(np.median(times))
 
 
 def _keys(chain, res):
@@ -49,14 +43,14 @@ def run(quick=False):
     qs = rng.uniform(heron.lower, heron.upper, size=(200 if quick else 2000, 6))
     T = heron.fk(qs)
     solve(heron, T[0, :3, 3], T[0, :3, :3])  # kernels are generated once per chain
-    single = _median_time(lambda k: solve(heron, T[k, :3, 3], T[k, :3, :3], near=qs[k]), range(len(qs)))
-    core = _median_time(lambda k: solve_batch(heron, T[k : k + 1, :3, 3], T[k : k + 1, :3, :3]), range(len(qs)))
+    single = _timing.median_time(lambda k: solve(heron, T[k, :3, 3], T[k, :3, :3], near=qs[k]), range(len(qs)))
+    core = _timing.median_time(lambda k: solve_batch(heron, T[k : k + 1, :3, 3], T[k : k + 1, :3, :3]), range(len(qs)))
 
     far = rng.normal(size=(20 if quick else 100, 3))
     far = far / np.linalg.norm(far, axis=1, keepdims=True) * rng.uniform(2300.0, 4000.0, size=(len(far), 1))
     Rf = rpy_to_matrix(rng.uniform(-np.pi, np.pi, size=(len(far), 3)))
     solve(heron, far[0], Rf[0])
-    unreachable = _median_time(lambda k: solve(heron, far[k], Rf[k], near=heron.home), range(len(far)))
+    unreachable = _timing.median_time(lambda k: solve(heron, far[k], Rf[k], near=heron.home), range(len(far)))
 
     N = 20_000 if quick else 200_000
     qb = rng.uniform(heron.lower, heron.upper, size=(N, 6))
@@ -76,7 +70,7 @@ def run(quick=False):
     qw = rng.uniform(wren.lower, wren.upper, size=(8 if quick else 30, 6))
     Tw = wren.fk(qw)
     solve(wren, Tw[0, :3, 3], Tw[0, :3, :3])
-    numeric = _median_time(lambda k: solve(wren, Tw[k, :3, 3], Tw[k, :3, :3]), range(len(qw)))
+    numeric = _timing.median_time(lambda k: solve(wren, Tw[k, :3, 3], Tw[k, :3, :3]), range(len(qw)))
     found = total = 0
     for k in range(min(len(qw), 4 if quick else 12)):
         long = _keys(wren, solve(wren, Tw[k, :3, 3], Tw[k, :3, :3], seeds=512 if quick else 2048))

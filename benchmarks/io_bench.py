@@ -11,6 +11,8 @@ import tempfile
 import time
 from pathlib import Path
 
+import _timing
+
 from poser import armfile
 from poser.io.recovery import RecoveryWriter
 
@@ -18,13 +20,6 @@ ROOT = Path(__file__).resolve().parent.parent
 MIB = armfile.MAX_BYTES
 
 
-def _best(fn, repeat):
-    best = float("inf")
-    for _ in range(repeat):
-        t = time.perf_counter()
-        fn()
-        best = min(best, time.perf_counter() - t)
-    return best
 
 
 def _names():
@@ -61,7 +56,7 @@ def _load_time(folder: Path, name: str, text: str, repeat: int) -> float:
         except armfile.ArmFileError:
             pass
 
-    return _best(go, repeat)
+    return _timing.best(go, repeat)
 
 
 def run(quick=False):
@@ -89,16 +84,17 @@ def run(quick=False):
         big = armfile.loads(cases["5000 notes keys with comments"], "big.toml")
         big.joints[2].max = 150
         big.joints.insert(1, big.joints.pop(3))
-        figures["dumps: edited heron6 (ms)"] = 1e3 * _best(lambda: armfile.dumps(_edited(heron_text)), repeat)
-        figures["dumps: edited arm with 5000 commented notes (ms)"] = 1e3 * _best(lambda: armfile.dumps(big), repeat)
+        figures["dumps: edited heron6 (ms)"] = 1e3 * _timing.best(lambda: armfile.dumps(_edited(heron_text)), repeat)
+        figures["dumps: edited arm with 5000 commented notes (ms)"] = 1e3 * _timing.best(
+            lambda: armfile.dumps(big), repeat)
         blank = armfile.loads(cases["1 MiB of blank lines"], "blank.toml")
         blank.joints[0].max = 100
-        figures["dumps: edited arm with 1 MiB of blank lines (ms)"] = 1e3 * _best(lambda: armfile.dumps(blank),
+        figures["dumps: edited arm with 1 MiB of blank lines (ms)"] = 1e3 * _timing.best(lambda: armfile.dumps(blank),
                                                                                  repeat)
         spec = armfile.loads(heron_text, "heron6.toml")
         path = folder / "heron6.toml"
         path.write_text(heron_text)
-        figures["save: heron6, atomic, fsync (ms)"] = 1e3 * _best(lambda: armfile.save(spec, path, expect=None),
+        figures["save: heron6, atomic, fsync (ms)"] = 1e3 * _timing.best(lambda: armfile.save(spec, path, expect=None),
                                                                    repeat)
         w = RecoveryWriter(folder / "rec.toml", min_interval=0.5)
         n = 200

@@ -18,7 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["Lines", "chain_lines", "parallel", "common_perpendicular", "meeting_point"]
+__all__ = ["Lines", "chain_lines", "parallel", "common_perpendicular", "meeting_point", "nearest_point"]
 
 
 @dataclass(frozen=True)
@@ -97,12 +97,9 @@ def common_perpendicular(o1, w1, o2, w2):
     return f1, f2, float(np.linalg.norm(f2 - f1))
 
 
-def meeting_point(os, ws, tol):
-    """The point where all lines meet (within ``tol`` of each), or None.
-
-    The least-squares point closest to every line, accepted when its distance
-    to each line is at most ``tol``.
-    """
+def nearest_point(os, ws):
+    """The point nearest every line (least squares: the sum of squared distances is least), or None
+    when the lines are (nearly) parallel and no such single point exists."""
     A = np.zeros((3, 3))
     b = np.zeros(3)
     for o, w in zip(os, ws):
@@ -111,7 +108,17 @@ def meeting_point(os, ws, tol):
         b += P @ o
     if np.linalg.cond(A) > 1e10:
         return None
-    x = np.linalg.solve(A, b)
+    return np.linalg.solve(A, b)
+
+
+def meeting_point(os, ws, tol):
+    """The point where all lines meet (within ``tol`` of each), or None.
+
+    :func:`nearest_point`, accepted when its distance to each line is at most ``tol``.
+    """
+    x = nearest_point(os, ws)
+    if x is None:
+        return None
     for o, w in zip(os, ws):
         v = x - o
         if np.linalg.norm(v - w * (w @ v)) > tol:

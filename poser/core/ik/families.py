@@ -278,6 +278,15 @@ def _least_bad(chain, M):
     return int(np.argmin(ex.sum(axis=1)))
 
 
+def _representative(chain, M, good, free, ref):
+    """Of members ``M`` (S, n): the one within limits (``good``) whose ``free`` joints are nearest their values in
+    ``ref``; else the one nearest the limits."""
+    if good.any():
+        d = np.linalg.norm(wrap(M[good][:, list(free)] - np.asarray(ref, float)[list(free)]), axis=1)
+        return M[np.flatnonzero(good)[int(np.argmin(d))]].copy()
+    return M[_least_bad(chain, M)].copy()
+
+
 def _one_parameter(chain, members, slots, exact_any):
     """Families over one parameter for ``slots``: joint ``members.j``'s value over its range, or the tool's
     turn over a turn (``members.kind == "turn"``).  Returns a list of ``(slot, Family, q)``; a slot none of
@@ -367,11 +376,8 @@ def _grid_family(chain, plan, xyz, R, ref, slot, free):
     at_ref = turns.place(chain, np.array(plan.one(xyz, R, ref)[slot][0], float))
     if bool(turns.fits(chain, at_ref)):  # the member that keeps the free joints where they are
         q = at_ref
-    elif good.any():
-        d = np.linalg.norm(wrap(M[good][:, list(free)] - np.asarray(ref, float)[list(free)]), axis=1)
-        q = M[np.flatnonzero(good)[int(np.argmin(d))]].copy()
     else:
-        q = M[_least_bad(chain, M)].copy()
+        q = _representative(chain, M, good, free, ref)
     names = chain.names
     fam = Family("joint", tuple(names[i] for i in (*free, *follows)), tuple(free), follows, tuple(ranges),
                  float(good.mean()), S, True)
@@ -603,11 +609,7 @@ def _line_grid(chain, key, sig, ref):
                    for n, ax in enumerate(axes))
     free = (j1, j2)
     follows = _follows(M, good, free)
-    if good.any():
-        d = np.linalg.norm(wrap(M[good][:, list(free)] - np.asarray(ref, float)[list(free)]), axis=1)
-        q = M[np.flatnonzero(good)[int(np.argmin(d))]].copy()
-    else:
-        q = M[_least_bad(chain, M)].copy()
+    q = _representative(chain, M, good, free, ref)
     names = chain.names
     fam = Family("joint", tuple(names[i] for i in (*free, *follows)), free, follows, ranges, float(good.mean()),
                  len(M), True)

@@ -30,7 +30,7 @@ from poser.core.ik.closed import stages
 from poser.core.ik.closed.ops import VECTOR
 from poser.core.ik.closed.stages import STAGE_BRANCHES, Model, Structure
 from poser.core.ik.closed.trace import TRACE, Graph, build
-from poser.core.lines import chain_lines, common_perpendicular, meeting_point, parallel
+from poser.core.lines import chain_lines, common_perpendicular, meeting_point, nearest_point, parallel
 
 __all__ = ["Structure", "Model", "Plan", "ReducedPlan", "plan", "approx_plan", "reduced_plan", "recognise", "model_of",
            "make_model", "kernel_source"]
@@ -345,15 +345,9 @@ def approx_plan(chain) -> Plan | None:
         L = chain_lines(c)
         if c.n != 6 or not all(L.revolute[3:6]) or plan(c) is not None:
             return None
-        A = np.zeros((3, 3))
-        b = np.zeros(3)
-        for o, w in zip(L.o[3:6], L.w[3:6]):
-            Pm = np.eye(3) - np.outer(w, w)
-            A += Pm
-            b += Pm @ o
-        if np.linalg.cond(A) > 1e10:
+        x = nearest_point(L.o[3:6], L.w[3:6])
+        if x is None:
             return None
-        x = np.linalg.solve(A, b)
         o = np.array(L.o, float)
         for k in range(3, 6):
             o[k] = x  # the line through x along the same direction
