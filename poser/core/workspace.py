@@ -28,8 +28,9 @@ Measuring
 Dexterity
     Each kept point carries the manipulability (:func:`poser.core.jacobian.manipulability`, in the task
     space's unit) and the share of approach directions reached: the tool Z directions of the samples in
-    its coarse cell, binned into 96 equal directions (16 per face of a cube; in the plane: 36 angles of the
-    tool X axis), counted relative to the azimuth — a lower bound that grows with the samples.
+    its coarse cell, binned into 96 directions of equal area (8 zones of equal height × 12 sectors; in the
+    plane: 36 angles of the tool X axis), counted relative to the azimuth — a lower bound that grows with
+    the samples.
 """
 
 from __future__ import annotations
@@ -215,7 +216,12 @@ def workspace(chain, samples: int = 500_000, seed: int = 20261202, keep: int = D
         x1, x2 = rel @ e1, rel @ e2
         r = np.hypot(x1, x2)
         phi = np.arctan2(x2, x1)
-        world = _turn(P, o, w, Q[:, 0])
+        # each sample turned by its joint 1 value about the line: (x1, x2) in the plane across it turn
+        cq, sq = np.cos(Q[:, 0]), np.sin(Q[:, 0])
+        y1, y2 = x1 * cq - x2 * sq, x1 * sq + x2 * cq
+        world = np.empty_like(P)
+        for k in range(3):
+            world[:, k] = o[k] + w[k] * z + e1[k] * y1 + e2[k] * y2
         frame = dict(axis_point=o, axis_dir=w, e1=e1, e2=e2, lower=float(chain.lower[0]),
                      length=float(chain.upper[0] - chain.lower[0]), plane_z=float(np.median(z)))
         if planar:
@@ -266,13 +272,6 @@ def _poses(chain, Q, spins, report):
         fk(chain, Q0[s:s + step], out=out[s:s + step])
         report((s + step) / len(Q))
     return out
-
-
-def _turn(P, o, w, angle):
-    """Points P (N, 3) turned about the line (o, w) by ``angle`` (N,) rad (Rodrigues)."""
-    v = P - o
-    c, s = np.cos(angle)[:, None], np.sin(angle)[:, None]
-    return o + v * c + np.cross(w, v) * s + np.outer(v @ w, w) * (1.0 - c)
 
 
 def _perp_unit(w):
@@ -514,25 +513,19 @@ def _approach(grid, T, phi, pick, planar, L):
             a, b, c = d @ e1, d @ e2, d @ w
             cp, sp = np.cos(phi), np.sin(phi)
             d = np.stack([a * cp + b * sp, -a * sp + b * cp, c], axis=1)
-        bins, nb = _cube_bins(d), DIRECTION_BINS
+        bins, nb = _sphere_bins(d), DIRECTION_BINS
     hit = np.zeros((int(np.prod(shape)), nb), bool)
     hit[cells, bins] = True
     share = hit.sum(axis=1) / nb
     return share[cells[pick]]
 
 
-def _cube_bins(d):
-    """Bin unit directions (N, 3) into 96: the face of the cube they cross and a 4 × 4 cell on it."""
-    a = np.abs(d)
-    face_axis = np.argmax(a, axis=1)
-    rows = np.arange(len(d))
-    big = a[rows, face_axis]
-    face = face_axis * 2 + (d[rows, face_axis] < 0)
-    u = d[rows, (face_axis + 1) % 3] / big
-    v = d[rows, (face_axis + 2) % 3] / big
-    iu = np.clip(((u + 1.0) * 2.0).astype(np.int64), 0, 3)
-    iv = np.clip(((v + 1.0) * 2.0).astype(np.int64), 0, 3)
-    return face * 16 + iu * 4 + iv
+def _sphere_bins(d):
+    """Bin unit directions (N, 3) into 96 of equal area: 8 bands of equal height in z (a sphere's zones of
+    equal height have equal area — Archimedes' hat-box theorem, common knowledge) × 12 equal sectors."""
+    band = np.clip(((d[:, 2] + 1.0) * 4.0).astype(np.int64), 0, 7)
+    sector = ((np.arctan2(d[:, 1], d[:, 0]) + math.pi) * (12.0 / TWO_PI)).astype(np.int64) % 12
+    return band * 12 + sector
 
 
 def contains(ws: Workspace, points):
