@@ -43,6 +43,13 @@ __all__ = [
     "ik_message",
     "ik_summary",
     "nearest_point_words",
+    "parts_text",
+    "margin_words",
+    "miss_text",
+    "spin_text",
+    "reach_words",
+    "reach_summary",
+    "ISO_9283_NOTE",
     "NEAR_LIMIT_MARGIN",
 ]
 
@@ -354,9 +361,15 @@ def largest_move(chain, q_from, q_to) -> str:
 
 def distance_text(chain, branch) -> str:
     """A branch's joint-space distance from the present pose: ``"12.3 deg"``, or ``"12.3 deg and 40 mm"``."""
-    if branch.distance_parts is None:
+    return parts_text(chain, branch.distance_parts)
+
+
+def parts_text(chain, parts) -> str:
+    """A joint-space distance given as (revolute part rad, prismatic part length): ``"12.3 deg and 40 mm"``;
+    ``"–"`` for None.  The joint kinds the arm lacks are left out (degrees and millimetres never added)."""
+    if parts is None:
         return "–"
-    a, b = branch.distance_parts
+    a, b = parts
     out = []
     if chain.revolute.any():
         out.append(angle(chain, a))
@@ -411,7 +424,9 @@ def ik_message(chain, result) -> str:
                 f"({v.side} limit {joint_value(chain, v.joint, v.limit)})")
 
     if result.reachable:
-        n_in, n_all = len(inside) + result.unlisted, len(reach) + result.unlisted
+        from poser.core.reach import within_limits_count
+
+        n_in, n_all = within_limits_count(result), len(reach) + result.unlisted
         s = f"Reachable{fam}: {n_in} of {n_all} branches reach the target within limits"
         s += f"; nearest the present pose: {printable(inside[0].label)}."
         if inside[0].family is not None:
@@ -466,3 +481,94 @@ def ik_summary(chain, result) -> tuple[str, str]:
         return "at", ik_message(chain, result)
     family = " Redundant arm: each branch stands for a family." if result.redundant else ""
     return "ok", f"{head}: {len(inside)} within limits.{family}{cut}"
+
+
+# -- studies: reach, placement, the test cube ----------------------------------------------------------
+
+ISO_9283_NOTE = ("test positions laid out after ISO 9283 (the performance-test cube and its diagonal plane), "
+                 "from memory of the standard, not from its text: check them against the standard before a "
+                 "formal test")
+"""Said wherever the ISO 9283 layout is used (the CLI, the JSON, the drawing)."""
+
+
+def margin_words(chain, q, joint: int) -> str:
+    """The worst limit margin of pose ``q`` at ``joint`` in words: ``"J5 wrist bend free: 40 deg to upper limit
+    (16 % of its range)"`` (:func:`limit_states`' words, with the share of the range)."""
+    st = limit_states(chain, q)[joint]
+    return f"{_name(chain, joint)} {st.words} ({fmt(100.0 * st.fraction, 1)} % of its range)"
+
+
+def miss_text(chain, miss) -> str:
+    """How far a closest approach is off, from (position error, orientation error rad): ``"45 mm and 3 deg"``."""
+    if miss is None:
+        return "–"
+    from poser.core.reach import tolerance
+
+    pe, oe = miss
+    tp, to = tolerance(chain)
+    parts = [length(chain, pe, 1 if pe >= 1 else 4)] if pe > tp else []
+    if oe > to:
+        parts.append(f"{angle(chain, oe)} in orientation")
+    if parts and pe <= tp:
+        return parts[0] + " (the position is reached)"
+    return " and ".join(parts) or "a hair"
+
+
+def spin_text(chain, spin) -> str:
+    """The chosen spin about tool Z of a free-spin target: ``"35.2 deg"``; ``"–"`` without one."""
+    return "–" if spin is None else angle(chain, spin)
+
+
+def reach_words(chain, v) -> str:
+    """One target's verdict of a reach study (:class:`poser.core.reach.Verdict`) in one or two sentences."""
+    from poser.core import reach as r
+
+    if v.status == r.FAULT:
+        return (f"The solver failed on this target ({v.fault}). This is a fault in Poser, not an answer about "
+                "the target.")
+    spin = f" with the tool turned {spin_text(chain, v.spin)} about its Z axis" if v.spin is not None else ""
+    if v.status == r.REACHED:
+        n = v.branches
+        s = (f"Reached{spin}: {n} branch{'es' if n != 1 else ''} within limits; chosen {printable(v.configuration)}"
+             f" (joint moves {parts_text(chain, v.move)})")
+        if v.changed:
+            s += ", a change of configuration from the target before"
+        s += f". Worst limit margin: {margin_words(chain, v.q, v.margin_joint)}; manipulability "
+        s += f"{manipulability_text(chain, v.manipulability)}."
+        if v.family is not None:
+            s += f" It is one of a family: {family_words(chain, v.family)}."
+        return s
+    tail = ""
+    if v.miss is not None:
+        tail = f" The closest approach within limits misses by {miss_text(chain, v.miss)}."
+    if v.nearest_point is not None:
+        tail += f" Nearest reachable point: {', '.join(fmt(x, 3) for x in v.nearest_point)} {chain.units.length}."
+    if v.target.free_spin:
+        tail += (f" No spin about tool Z helps (sampled every {angle(chain, r.SPIN_STEP)}, refined to "
+                 f"{angle(chain, r.spin_resolution(), 3)}).")
+    if v.status == r.BLOCKED:
+        what = "; ".join(violations_words(chain, v.violations)) or "a joint limit"
+        return f"Blocked by limits{spin}: every branch that reaches it breaks a limit; nearest: " \
+               f"'{printable(v.blocked_label)}' needs {what}.{tail}"
+    return f"Out of reach{spin}: no configuration reaches it, whatever the limits.{tail}"
+
+
+def reach_summary(chain, study, skipped: int = 0) -> str:
+    """The whole study in one sentence: how many reached, blocked, out of reach; configuration changes."""
+    from poser.core import reach as r
+
+    vs = study.verdicts
+    n = len(vs)
+    counts = {s: sum(v.status == s for v in vs) for s in (r.REACHED, r.BLOCKED, r.OUT_OF_REACH, r.FAULT)}
+    s = f"{counts[r.REACHED]} of {n} target{'s' if n != 1 else ''} reached within limits"
+    if counts[r.BLOCKED]:
+        s += f"; {counts[r.BLOCKED]} blocked by limits"
+    if counts[r.OUT_OF_REACH]:
+        s += f"; {counts[r.OUT_OF_REACH]} out of reach"
+    if counts[r.FAULT]:
+        s += f"; {counts[r.FAULT]} not judged (solver fault)"
+    changes = sum(v.changed for v in vs)
+    s += f"; {changes} change{'s' if changes != 1 else ''} of configuration along the sequence"
+    if skipped:
+        s += f"; {skipped} malformed row{'s' if skipped != 1 else ''} skipped (not checked)"
+    return s + "."

@@ -4,6 +4,7 @@
     poser check ARM.toml
     poser fk ARM.toml --joints V1,V2,... [--frames] [--json]
     poser ik ARM.toml --xyz X,Y,Z [--rpy R,P,Y] [--near V1,...] [--json]
+    poser reach ARM.toml TARGETS.csv [--near V1,...] [--json] [--out REPORT.csv]
 
 Every value is read and printed in the arm's own units.  Bad input — and an
 output that cannot be written — ends with exit status 2 and one line
@@ -19,12 +20,12 @@ import os
 import sys
 
 from poser import __version__
-from poser.cli import check, fk, ik, window
+from poser.cli import check, fk, ik, reach, window
 from poser.cli.args import Parser, UsageError, glue_negative_lists, load_arm, parse_list
 
 __all__ = ["main", "entry", "UsageError", "load_arm", "parse_list", "SUBCOMMANDS"]
 
-SUBCOMMANDS = {"check": check, "fk": fk, "ik": ik}
+SUBCOMMANDS = {"check": check, "fk": fk, "ik": ik, "reach": reach}
 
 
 def build_parsers():

@@ -11,7 +11,8 @@ import re
 
 import numpy as np
 
-__all__ = ["UsageError", "Parser", "parse_list", "glue_negative_lists", "load_arm", "MAX_VALUE", "LIST_OPTIONS"]
+__all__ = ["UsageError", "Parser", "parse_list", "glue_negative_lists", "load_arm", "MAX_VALUE", "LIST_OPTIONS",
+           "same_file", "write_output", "progress_printer", "load_targets"]
 
 LIST_OPTIONS = ("--joints", "--xyz", "--rpy", "--near", "--target")
 _NUMBERISH = re.compile(r"^-([\d.]|nan|inf)", re.IGNORECASE)
@@ -82,3 +83,72 @@ def load_arm(path):
         more = f" (and {len(exc.problems) - 1} more; run 'poser check {path}')" if len(exc.problems) > 1 else ""
         raise UsageError(f"{first}{more}") from None
     return spec, spec.to_chain()
+
+
+def same_file(a, b) -> bool:
+    """Whether two paths name one file (following links); False when either does not exist."""
+    import os
+
+    try:
+        return os.path.samefile(a, b)
+    except OSError:
+        return False
+
+
+def write_output(path, text: str, option: str, inputs=()) -> None:
+    """Write an output file atomically; refuse to write over one of the ``inputs`` (nothing lost).
+
+    Errors are :class:`UsageError` naming ``option``, what was expected and what came.
+    """
+    from poser.armfile import SaveError
+    from poser.io.writing import write_text_atomic
+
+    for src in inputs:
+        if same_file(path, src):
+            raise UsageError(f"{option} must name a new file, not an input; got {path!r}, which is {src!r}")
+    try:
+        write_text_atomic(path, text)
+    except SaveError as exc:
+        raise UsageError(f"{option}: cannot write {path!r}: {exc.problems[0].message}") from None
+
+
+def progress_printer(label: str):
+    """A ``progress(fraction)`` callback that shows ``label: 42 %`` on a terminal's stderr; None elsewhere."""
+    import sys
+
+    if not getattr(sys.stderr, "isatty", lambda: False)():
+        return None
+    last = [-1]
+
+    def show(fraction):
+        pct = int(100 * fraction)
+        if pct != last[0]:
+            last[0] = pct
+            end = "\n" if pct >= 100 else ""
+            print(f"\r{label}: {pct:3d} %", end=end, file=sys.stderr, flush=True)
+        return None
+
+    return show
+
+
+def load_targets(path, chain, inputs=()):
+    """Read a target CSV for ``chain``: (TargetFile); its problems go to stderr as ``FILE:LINE: ...`` lines.
+
+    A file that cannot be read, or holds no good row, is a :class:`UsageError`.
+    """
+    import sys
+
+    from poser.io.targets import TargetFileError, read_targets
+    from poser.report import printable
+
+    try:
+        tf = read_targets(path, chain.units)
+    except TargetFileError as exc:
+        raise UsageError(str(exc.problems[0])) from None
+    for p in tf.problems:
+        print(printable(str(p)), file=sys.stderr)
+    if not tf.targets:
+        rows = f" ({tf.skipped} malformed row{'s' if tf.skipped != 1 else ''} skipped)" if tf.skipped else ""
+        raise UsageError(f"{path}: holds no target to check{rows}; expected rows of name,x,y,z"
+                         "[,roll,pitch,yaw][,free_spin]")
+    return tf
