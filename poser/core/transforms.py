@@ -43,9 +43,18 @@ TWO_PI = 2.0 * np.pi
 def wrap(angle):
     """Angles (...) radians → the same angles in (-π, π] (the one angle wrap of Poser).
 
-    Written as ``π - ((π - a) mod 2π)`` so that π stays π and -π becomes π.
+    Angles already in (-π, π] come back unchanged (bit for bit); others are written as
+    ``π - ((π - a) mod 2π)``, so that π stays π and -π becomes π.  Non-finite angles give nan.
     """
-    return np.pi - np.mod(np.pi - np.asarray(angle, dtype=float), TWO_PI)
+    a = np.asarray(angle, dtype=float)
+    if a.ndim == 0:
+        x = float(a)
+        return np.float64(x if -np.pi < x <= np.pi else np.pi - np.mod(np.pi - x, TWO_PI))
+    out = a.copy()
+    off = ~((a > -np.pi) & (a <= np.pi))
+    if off.any():
+        out[off] = np.pi - np.mod(np.pi - a[off], TWO_PI)
+    return out
 
 
 def cos_sin(angle):

@@ -64,22 +64,34 @@ def place(chain, Q):
         range: the value in (-π, π] (their turns are chosen by :func:`turn_options`).  Prismatic
         joints unchanged.
     """
-    rev, wide = chain.revolute, _wide(chain)
-    mid = 0.5 * (chain.lower + chain.upper)
-    return np.where(rev, np.where(wide, wrap(Q), wrap(Q - mid) + mid), Q)
+    return place_inplace(chain, np.array(Q, dtype=float))
 
 
 def place_inplace(chain, Q):
     """:func:`place` written into ``Q`` (..., n) itself, joint by joint (for large batches)."""
-    wide = _wide(chain)
-    mid = 0.5 * (chain.lower + chain.upper)
-    for i in np.flatnonzero(chain.revolute):
-        col = Q[..., i]
-        if wide[i]:
-            col[...] = wrap(col)
-        else:
-            col[...] = wrap(col - mid[i]) + mid[i]
+    mid = _middles(chain)
+    D = Q - mid
+    off = ~((D > -np.pi) & (D <= np.pi))
+    off &= chain.revolute
+    # only values more than half a turn from their middle move (the rest stay bit for bit)
+    k = np.flatnonzero(off)
+    if k.size:
+        flat = Q.reshape(-1)  # a view when Q is contiguous (the batches' chunks are)
+        flat[k] = wrap(D.reshape(-1)[k]) + mid[k % len(mid)]
+        if not np.shares_memory(flat, Q):
+            Q[...] = flat.reshape(Q.shape)
     return Q
+
+
+def _middles(chain):
+    """Where :func:`place` centres each joint (n,): the middle of its range; 0 for wide and prismatic joints."""
+
+    def make(c):
+        m = np.where(np.asarray(c.revolute) & ~_wide(c), 0.5 * (c.lower + c.upper), 0.0)
+        m.setflags(write=False)
+        return m
+
+    return chain.derived("placement_middles", make)
 
 
 def fits(chain, Qp):
