@@ -81,3 +81,17 @@ def test_a_limit_exactly_at_the_solution_value_is_within(name):
         res = ps.solve(a, T[:3, 3], R, near=q)
         hit = [b for b in res.branches if ref.same(a, b.q, q, 1e-7)]
         assert res.reachable and hit and hit[0].within_limits, (name, j, q_user.tolist())
+
+
+@pytest.mark.parametrize("mount", [None, arms.CEILING, ((250, -120, 900), (30, 45, 60))])
+def test_a_bent_offset_tool_on_any_mount(mount):
+    from .compare import compare
+
+    tool = ((120, -40, 200), (10, 35, -20))  # off the flange axis and bent: the wrist centre is not on the tool axis
+    a = arms.six_round(tool=tool, base=mount) if mount else arms.six_round(tool=tool)
+    lo, hi = ref.limits(a)
+    for q in lo + np.random.default_rng(9).random((2, 6)) * (hi - lo):
+        T = ref.fk(a, q)
+        problems, res, sols, _ = compare(a, T[:3, 3], T[:3, :3], K=100)
+        assert res.reachable and any(ref.same(a, q, b.q) for b in res.branches)
+        assert not problems, "\n".join(problems[:6])
