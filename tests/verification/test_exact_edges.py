@@ -95,3 +95,21 @@ def test_a_bent_offset_tool_on_any_mount(mount):
         problems, res, sols, _ = compare(a, T[:3, 3], T[:3, :3], K=100)
         assert res.reachable and any(ref.same(a, q, b.q) for b in res.branches)
         assert not problems, "\n".join(problems[:6])
+
+
+@pytest.mark.xfail(strict=True, reason=(
+    "five-axis arm (numerical solver) at an exactly stretched elbow, pose J = 20, 30, 0, 40, 50 deg: the reference "
+    "has 2 solutions (4 with J5's turns); Poser lists 34 branches '34 of 34', about nine near-copies of each "
+    "(J3 = ±0.003…0.006 deg, position errors 3e-7…1.2e-6 mm, inside the tolerance because the error is "
+    "quadratic there) split into 'elbow up' / 'elbow down'; the stretched solution itself (J3 = 0) is not listed"))
+@pytest.mark.parametrize("q_user", [[20, 30, 0, 40, 50], [0, 30, 0, 60, 0]])
+def test_numerically_solved_arm_at_an_exactly_stretched_elbow_lists_each_solution_once(q_user):
+    a = arms.five_axis()
+    q = ref.to_internal(a, q_user)
+    T = ref.fk(a, q)
+    sols = ref.solve_all(a, T[:3, 3], T[:3, :3], K=150)
+    assert len(sols) == 2
+    res = ps.solve(a, T[:3, 3], T[:3, :3])
+    expected = sum(max(1, ref.turn_count(a, s)) for s in sols)  # beyond-limits solutions count once
+    assert res.total == expected
+    assert any(ref.same(a, q, b.q, 1e-7) for b in res.branches)
