@@ -157,3 +157,64 @@ def wide_turns(**kw):
 
 CEILING = ((0, 0, 2400), (180, 0, 0))
 WALL = ((0, 1500, 1000), (90, 0, 0))
+
+
+# ------------------------------------------------------------------------------------------- round two
+def six_round(**kw):
+    """Six axes, spherical wrist, no offsets, round numbers: shoulder 350 up, upper arm 600, forearm 550, flange 100
+    (standard DH, mm/deg).  J3 = 90° stretches the arm, J3 = −90° folds it; J2 = J3 = 90° puts the wrist centre
+    on axis 1."""
+    return arm([
+        dict(alpha=90, d=350, min=-170, max=170),
+        dict(a=600, min=-100, max=150),
+        dict(alpha=90, min=-150, max=160),
+        dict(alpha=-90, d=550, min=-190, max=190),
+        dict(alpha=90, min=-120, max=120),
+        dict(d=100, min=-360, max=360),
+    ], name="six round", **kw)
+
+
+def rail7(**kw):
+    """six_round on a 2 m linear rail along world x (the rail is joint 1; standard DH, mm/deg)."""
+    six = six_round()["joints"]
+    kw.setdefault("base", ((0, 0, 0), (0, 90, 0)))
+    return arm([dict(type=P, alpha=90, theta=-90, min=0, max=2000)] + six, name="rail seven", **kw)
+
+
+def to_modified(s):
+    """The same physical arm as standard-DH arm ``s`` written in modified DH: row i takes a_{i-1}, α_{i-1}; the
+    last row's Tx(a_n) Rx(α_n) moves into the tool (Craig, *Introduction to Robotics*, ch. 3, the two link-frame
+    conventions; from memory)."""
+    import numpy as np
+
+    from .reference import pose, rpy_of
+
+    rows, out, prev = s["joints"], [], {"a": 0.0, "alpha": 0.0}
+    for j in rows:
+        m = dict(j)
+        m["a"], m["alpha"] = prev["a"], prev["alpha"]
+        prev = j
+        out.append(m)
+    unit = (lambda v: np.radians(v)) if s["angle"] == "deg" else (lambda v: np.asarray(v, float))
+    back = (lambda v: np.degrees(v)) if s["angle"] == "deg" else (lambda v: np.asarray(v, float))
+    T = pose((rows[-1]["a"], 0, 0), (float(unit(rows[-1]["alpha"])), 0, 0)) @ pose(s["tool"][0], unit(s["tool"][1]))
+    tool = (tuple(map(float, T[:3, 3])), tuple(map(float, back(rpy_of(T[:3, :3])))))
+    return arm(out, convention="modified", length=s["length"], angle=s["angle"], base=s["base"], tool=tool,
+               name=s["name"] + " (modified)")
+
+
+def scaled(s, f, unit):
+    """Arm ``s`` with every length times ``f``, written in length unit ``unit`` (the same arm in m, or a miniature)."""
+    import copy
+
+    b = copy.deepcopy(s)
+    b["length"] = unit
+    for j in b["joints"]:
+        j["a"] *= f
+        j["d"] *= f
+        if j["type"] == P:
+            j["min"] *= f
+            j["max"] *= f
+    b["tool"] = (tuple(float(v) * f for v in b["tool"][0]), b["tool"][1])
+    b["base"] = (tuple(float(v) * f for v in b["base"][0]), b["base"][1])
+    return b

@@ -90,3 +90,56 @@ def compare(a, xyz, R=None, near=None, K=300, seed=1, result=None, **options):
                 problems.append(f"nearest_point {np.round(result.nearest_point, 6).tolist()} typed back is not "
                                 "reachable")
     return problems, result, sols, inside
+
+
+def member(a, s, b, tol=1e-4):
+    """Reference solution s (n,) is branch b (mod 2π), or a member of b's joint family: equal to b's
+    representative on every joint that neither parametrises the family nor follows it."""
+    if ref.same(a, s, b.q, tol):
+        return True
+    f = b.family
+    if f is None or f.kind != "joint":
+        return False
+    moving = set(f.joints) | set(f.follows)
+    keep = [i for i in range(len(s)) if i not in moving]
+    sub = {**a, "joints": [a["joints"][i] for i in keep]}
+    return ref.same(sub, np.asarray(s)[keep], np.asarray(b.q)[keep], tol)
+
+
+def in_ranges(v, ranges, tol=1e-6):
+    """Angle v (rad) lies, by some whole turn, in one of the intervals ``ranges`` ((lo, hi) rad)."""
+    for lo, hi in ranges:
+        k = np.ceil((lo - tol - v) / ref.TWO_PI)
+        if v + k * ref.TWO_PI <= hi + tol:
+            return True
+    return False
+
+
+def compare_families(a, xyz, R=None, K=150, seed=1, result=None):
+    """Like :func:`compare` for targets whose solutions form joint families (singular targets): every reference
+    solution is a branch or a member of a family; a within-limits one is said to be within limits (an isolated
+    branch within limits, or a family whose within-limits ranges hold its parameter values); ``reachable``
+    agrees with the reference.  Returns (problems, result)."""
+    if result is None:
+        result = ps.solve(a, xyz, R)
+    if result.status != "solved":
+        return [f"solver fault: {result.fault}"], result
+    problems = []
+    for b in result.branches:
+        problems += check_branch(a, b, xyz, R, result.tolerance)
+    sols = ref.solve_all(a, xyz, R, K=K, seed=seed)
+    inside = ref.solve_bounded(a, xyz, R, K=max(50, K // 2), seed=seed + 1)
+    for s in sols + inside:
+        hits = [b for b in result.branches if member(a, s, b)]
+        where = f"reference solution q={np.round(ref.to_user(a, s), 4).tolist()}"
+        if not hits:
+            problems.append(f"{where} is neither a branch nor a member of a family")
+        elif ref.fits_limits(a, s) and not any(
+                b.within_limits if b.family is None
+                else all(in_ranges(s[j], b.family.ranges[k]) for k, j in enumerate(b.family.joints)) for b in hits):
+            problems.append(f"{where} is within limits but its branch or family says it is not")
+    any_in = any(ref.fits_limits(a, s) for s in sols) or bool(inside)
+    if bool(result.reachable) != any_in:
+        problems.append(f"reachable={result.reachable} but the reference finds {'a' if any_in else 'no'} "
+                        "within-limits solution")
+    return problems, result

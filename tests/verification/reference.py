@@ -403,3 +403,22 @@ def with_limits(a, i, lo, hi):
     b = copy.deepcopy(a)
     b["joints"][i]["min"], b["joints"][i]["max"] = lo, hi
     return b
+
+
+# --------------------------------------------------------------------------------------------- round two
+def jacobian(a, q, h=1e-6):
+    """The geometric Jacobian (6, n) at q by central differences of :func:`fk`: tool-point velocity over the
+    angular velocity (the rotation vector of R(q + h e_i) R(q)ᵀ; scipy.spatial.transform.Rotation.as_rotvec)."""
+    q = np.asarray(q, float)
+    n = len(q)
+    R0 = fk(a, q)[:3, :3]
+    J = np.zeros((6, n))
+    for i in range(n):
+        d = np.zeros(n)
+        d[i] = h
+        Tp, Tm = fk(a, q + d), fk(a, q - d)
+        J[:3, i] = (Tp[:3, 3] - Tm[:3, 3]) / (2 * h)
+        J[3:, i] = (Rotation.from_matrix(Tp[:3, :3] @ R0.T).as_rotvec()
+                    - Rotation.from_matrix(Tm[:3, :3] @ R0.T).as_rotvec()) / (2 * h)
+    return J
+
