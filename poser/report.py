@@ -97,6 +97,33 @@ def printable(text) -> str:
     return "".join(out)
 
 
+def decimals(chain, kind: str) -> int:
+    """Decimals that give a value back within a tenth of what Poser calls reaching — the digits of every
+    number meant to be typed in again (joint values, the nearest reachable point and its orientation).
+
+    ``kind`` is ``"length"`` (a tenth of :func:`poser.core.ik.result.default_tolerance`'s position, so
+    it follows the arm's size and length unit: 4 for a 2 m arm in mm, 7 in m) or ``"angle"`` (a tenth of
+    the orientation tolerance in the arm's angle unit: 6 in deg, 7 in rad).
+    """
+    from poser.core.ik.result import default_tolerance
+
+    pos, ori = default_tolerance(chain)
+    if kind == "length":
+        step = 0.1 * pos
+    elif kind == "angle":
+        step = 0.1 * float(chain.units.angle_out(ori))
+    else:
+        raise ValueError(f"kind must be 'length' or 'angle', got {kind!r}")
+    if not (math.isfinite(step) and step > 0):
+        return 6
+    return int(min(15, max(3, math.ceil(-math.log10(step)))))
+
+
+def joint_decimals(chain, i: int) -> int:
+    """:func:`decimals` of joint ``i``'s values (angle for revolute, length for prismatic joints)."""
+    return decimals(chain, "angle" if chain.revolute[i] else "length")
+
+
 def _angle_digits(chain) -> int:
     return 1 if chain.units.angle == "deg" else 3
 
@@ -401,8 +428,9 @@ def nearest_point_words(chain, result) -> str:
     if p is None:
         return ""
     rpy = chain.units.angle_out(matrix_to_rpy(result.nearest_rotation))
-    xyz = ", ".join(fmt(v, 3) for v in p)
-    return (f"{xyz} {chain.units.length} with the tool at rpy {', '.join(fmt(v, 3) for v in rpy)} "
+    dl, da = decimals(chain, "length"), decimals(chain, "angle")
+    xyz = ", ".join(fmt(v, dl) for v in p)
+    return (f"{xyz} {chain.units.length} with the tool at rpy {', '.join(fmt(v, da) for v in rpy)} "
             f"{chain.units.angle}")
 
 

@@ -89,3 +89,19 @@ def test_singularity_words_have_a_long_and_a_short_form(short):
     level, text = report.singularity_words(heron, s, short=short)
     assert level == "at" and text.startswith("AT A SINGULARITY: wrist axes aligned")
     assert ("joints 4 and 6" in text) == short and ("J4 forearm roll and J6 flange" in text) == (not short)
+
+
+def test_decimals_follow_the_arm_size_and_units():
+    """Digits of values meant to be typed back: a tenth of the reach tolerance (10⁻⁶ of the arm's size,
+    10⁻⁶ rad) in the arm's units — Heron 6 (about 2 m, in mm and deg) and Boom 3 (in m and rad)."""
+    from poser.core.ik.result import default_tolerance
+
+    for name in ("heron6", "boom3"):
+        chain = _demo(name)
+        pos, ori = default_tolerance(chain)
+        for kind, tol in (("length", pos), ("angle", float(chain.units.angle_out(ori)))):
+            d = report.decimals(chain, kind)
+            assert 10.0 ** -d <= 0.1 * tol < 10.0 ** (1 - d), (name, kind, d, tol)
+    heron = _demo("heron6")
+    assert (report.decimals(heron, "length"), report.decimals(heron, "angle")) == (4, 6)
+    assert [report.joint_decimals(heron, i) for i in range(heron.n)] == [6] * 6

@@ -161,9 +161,10 @@ def _table(chain, branches, with_distance, position_only=False):
         heads.append(f"distance [{_distance_unit(chain)}]")
     heads.append("configuration")
     rows = []
+    digits = [report.joint_decimals(chain, k) for k in range(chain.n)]  # values that can be typed back in
     for i, b in enumerate(branches, 1):
         q_user = chain.q_to_user(b.q)
-        row = [str(i)] + [f"{round(float(v), 3) + 0.0:.3f}" for v in q_user]
+        row = [str(i)] + [f"{round(float(v), d) + 0.0:.{d}f}" for v, d in zip(q_user, digits)]
         ori = "–" if position_only else f"{float(units.angle_out(b.orientation_error)):.3g}"
         pos = f"{b.position_error:.0f}" if b.position_error >= 1000 else f"{b.position_error:.3g}"
         row += [pos, ori, report.manipulability_text(chain, b.manipulability).split(" ")[0]]

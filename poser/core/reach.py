@@ -48,6 +48,7 @@ import numpy as np
 
 from poser.core.errors import PoserValueError
 from poser.core.fk import fk
+from poser.core.ik.result import default_tolerance
 from poser.core.jacobian import limit_margins, manipulability
 from poser.core.progress import reporter
 from poser.core.transforms import TWO_PI, rot_z, rotation_error
@@ -87,7 +88,7 @@ def tolerance(chain) -> tuple[float, float]:
     The defaults of :func:`poser.core.ik.solve` (10⁻⁶ of the arm's size, 10⁻⁶ rad); the study passes them
     to ``solve`` explicitly, so both judge with the same figures.
     """
-    return 1e-6 * chain.scale, 1e-6
+    return default_tolerance(chain)
 
 
 def joint_distance(chain, Q, ref):

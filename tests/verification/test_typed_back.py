@@ -29,7 +29,6 @@ FAR = {
     "six modified m rad, pose": (arms.six_modified_m_rad(), (3, 1, 1), (0.1, 1.5, 0.2)),
     "planar2 miniature mm": (arms.scaled(arms.planar2(), 1e-3, "mm"), (0.9, 0.1, 0), None),
 }
-TEXT_FAILS = {"planar2 m", "five_axis m", "five_axis mm, pose", "six modified m rad, pose", "planar2 miniature mm"}
 
 
 def _args(xyz, rpy):
@@ -45,17 +44,7 @@ def test_nearest_point_from_json_typed_back_is_reached(case):
     assert back == 0
 
 
-def _text_case(case):
-    marks = []
-    if case in TEXT_FAILS:
-        marks = [pytest.mark.xfail(strict=True, reason=(
-            "poser ik prints the nearest reachable point (and its rpy) with 3 fixed decimals in the arm's unit "
-            "(report.nearest_point_words -> fmt(v, 3)): 1 mm steps on an arm in m, 1 µm on a 1 mm arm, 0.001 rad; "
-            "typed back, the printed point is out of reach (exit 1) and the verdict names the same point again"))]
-    return pytest.param(case, marks=marks)
-
-
-@pytest.mark.parametrize("case", [_text_case(c) for c in sorted(FAR)])
+@pytest.mark.parametrize("case", sorted(FAR))
 def test_nearest_point_as_printed_typed_back_is_reached(case):
     a, xyz, rpy = FAR[case]
     code, out, err = ps.cli(a, "ik", *_args(xyz, rpy))
@@ -66,10 +55,6 @@ def test_nearest_point_as_printed_typed_back_is_reached(case):
     assert back == 0, out2.splitlines()[-1]
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "poser ik's branch table prints a prismatic joint of an arm in metres with 3 decimals (0.346 m for "
-    "0.3456789 m: 1 mm steps, report.joint_value -> length(digits=3)) while poser fk prints 0.345679 and the "
-    "window 6 decimals; the printed values typed into poser fk miss the target by up to 0.7 mm"))
 def test_joint_values_printed_by_ik_typed_into_fk_reach_the_target():
     a = arms.scaled(arms.cylindrical(), 1e-3, "m")
     q_user = [30, 0.3456789, 0.4567891]

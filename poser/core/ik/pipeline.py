@@ -29,7 +29,7 @@ from poser.core.errors import PoserValueError
 from poser.core.ik import closed, families, labels, numeric, turns
 from poser.core.ik.closest import closest_approach
 from poser.core.ik.evaluate import Evaluation, evaluate
-from poser.core.ik.result import FAULT, SOLVED, Branch, IKResult
+from poser.core.ik.result import FAULT, SOLVED, Branch, IKResult, default_tolerance
 from poser.core.jacobian import jacobian
 from poser.core.transforms import TWO_PI, wrap
 
@@ -395,9 +395,10 @@ def solve(chain, xyz, R=None, near=None, **options) -> IKResult:
     method = options.get("method", "auto")
     if method not in ("auto", "closed", "numerical"):
         raise PoserValueError(f"method must be 'auto', 'closed' or 'numerical', got {method!r}")
+    tol0 = default_tolerance(chain)
     tol = (
-        float(options.get("position_tolerance", 1e-6 * chain.scale)),
-        float(options.get("orientation_tolerance", 1e-6)),
+        float(options.get("position_tolerance", tol0[0])),
+        float(options.get("orientation_tolerance", tol0[1])),
     )
     try:
         return _solve(chain, xyz, R, near, tol, method, options)

@@ -13,7 +13,19 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["Violation", "Family", "Branch", "IKResult", "BatchResult", "SOLVED", "FAULT"]
+__all__ = ["Violation", "Family", "Branch", "IKResult", "BatchResult", "SOLVED", "FAULT", "default_tolerance",
+           "POSITION_TOLERANCE", "ORIENTATION_TOLERANCE"]
+
+POSITION_TOLERANCE = 1e-6
+"""A pose reaches a target when its tool point is within this fraction of the arm's size (:attr:`Chain.scale`)."""
+ORIENTATION_TOLERANCE = 1e-6
+"""… and its tool orientation within this angle (rad)."""
+
+
+def default_tolerance(chain) -> tuple[float, float]:
+    """(position in the arm's length unit, orientation in rad) within which a pose reaches a target:
+    the defaults of :func:`poser.core.ik.solve`, the reach study and the digits Poser prints."""
+    return POSITION_TOLERANCE * chain.scale, ORIENTATION_TOLERANCE
 
 SOLVED = "solved"
 FAULT = "fault"
