@@ -269,13 +269,6 @@ def condition_text(kappa: float) -> str:
     return fmt(kappa, 1)
 
 
-_KIND = {
-    "wrist": "wrist axes aligned",
-    "shoulder": "wrist centre on the base axis",
-    "generic": "the Jacobian loses rank",
-}
-
-
 def finding_words(chain, f) -> str:
     """One :class:`poser.core.singularity.Finding` in words, with the joints involved."""
     names = " and ".join(_name(chain, j) for j in f.joints) if len(f.joints) <= 2 else \
@@ -286,15 +279,24 @@ def finding_words(chain, f) -> str:
     if f.kind == "wrist":
         return f"wrist axes aligned ({names} turn about one line: only their sum counts)"
     if f.kind == "shoulder":
-        return f"wrist centre on the base axis ({names} cannot move it)"
+        if f.detail in ("plane", "tool plane"):
+            point = "tool point" if f.detail == "tool plane" else "wrist centre"
+            return (f"{point} in the plane of the base and shoulder axes ({names} moves it only along a "
+                    "direction the other joints also give)")
+        return f"{_SHOULDER_WHAT.get(f.detail, _SHOULDER_WHAT['axis'])} ({names} cannot move it)"
     return f"the Jacobian loses rank (joints involved: {names})"
 
 
-_SHORT = {"wrist": "wrist axes aligned", "shoulder": "wrist centre on the base axis", "generic": "rank lost"}
+_SHORT = {"wrist": "wrist axes aligned", "generic": "rank lost"}
+_SHOULDER_WHAT = {"axis": "wrist centre on the base axis", "plane": "wrist centre in the shoulder plane",
+                  "tool": "tool point on the base axis", "tool plane": "tool point in the shoulder plane"}
 
 
 def _short_finding(chain, f) -> str:
-    what = _SHORT.get(f.kind) or ("arm stretched out" if f.detail == "stretched" else "arm folded back")
+    if f.kind == "shoulder":
+        what = _SHOULDER_WHAT.get(f.detail, _SHOULDER_WHAT["axis"])
+    else:
+        what = _SHORT.get(f.kind) or ("arm stretched out" if f.detail == "stretched" else "arm folded back")
     nums = [str(j + 1) for j in f.joints]
     joints = f"joint {nums[0]}" if len(nums) == 1 else f"joints {', '.join(nums[:-1])} and {nums[-1]}"
     return f"{what} ({joints})"

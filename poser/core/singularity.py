@@ -8,8 +8,11 @@ joints involved:
 
 * ``wrist`` — the wrist axes are aligned: the first and last wrist joints turn about one line,
   only their sum (or difference) is determined;
-* ``shoulder`` — the wrist point is on the base axis (or, with a sideways shoulder offset, in the
-  plane of the base axis and the shoulder axis): joint 1 cannot move it;
+* ``shoulder`` — the wrist point is on the base axis, so joint 1 cannot move it (detail ``"axis"``);
+  or, with a sideways shoulder offset, in the plane of the base axis and the shoulder axis, where
+  joint 1 moves it only along a direction the other joints also give (``"plane"``); or, on arms
+  without a shoulder (a cylindrical arm), the tool point is on the base axis (``"tool"``; arms of up to
+  four joints, whose wrist point is the tool point, give ``"tool"`` and ``"tool plane"``);
 * ``elbow`` — shoulder, elbow and wrist points in one line: the arm is stretched out or folded
   back (the edge of the workspace);
 * ``generic`` — any other loss of rank; the joints are those that take part in the lost motion
@@ -96,9 +99,13 @@ def _measures(chain, F):
     """(kind, joints, measure, detail) for each anatomical kind the arm has, at frames F (n + 2, 4, 4)."""
     an = anatomy(chain)
     out = []
-    if an.kind == "other":
-        return out
     L = chain.scale
+    if an.kind == "other":
+        if chain.n >= 2 and chain.revolute[0]:  # e.g. a cylindrical arm: the tool point on the base axis
+            h = F[-1, :3, 3] - an.base_o
+            h = h - an.base_w * float(an.base_w @ h)
+            out.append(("shoulder", (0,), float(np.linalg.norm(h)) / L, "tool"))
+        return out
     W = points_at(an, F, "wrist")
     if an.wrist_spherical:
         i4, i5, i6 = an.wrist_joints
@@ -108,7 +115,11 @@ def _measures(chain, F):
         h = W - an.base_o
         h = h - an.base_w * float(an.base_w @ h)
         f = points_at(an, F, "facing")
-        out.append(("shoulder", (0,), abs(float(h @ f)) / L, ""))
+        # on the axis, or (a sideways shoulder offset) beside it in the plane of the base and shoulder axes
+        side = "axis" if float(np.linalg.norm(h)) <= NEAR_MEASURE * L else "plane"
+        if chain.n <= 4:  # no wrist: the point is the tool's
+            side = "tool" if side == "axis" else "tool plane"
+        out.append(("shoulder", (0,), abs(float(h @ f)) / L, side))
     if an.elbow is not None and not an.elbow_prismatic:
         S, E = points_at(an, F, "shoulder"), points_at(an, F, "elbow")
         d, v = W - S, E - S

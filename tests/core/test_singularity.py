@@ -106,3 +106,17 @@ def test_every_demo_home_is_clear_and_the_fk_command_says_so(capsys):
     kinds = [{"kind": "wrist", "joints": ["J4 forearm roll", "J6 flange"], "detail": None}]
     assert out["singularity"]["kinds"] == kinds
     assert out["manipulability"] == 0.0 and out["manipulability_unit"] == "mm³"
+
+
+def test_a_cylindrical_arm_with_its_tool_point_on_the_base_axis():
+    """Turn, lift, radial slide (RPP) with the slide at 0: the tool point is on joint 1's axis, so joint 1 cannot
+    move it and the position Jacobian loses a rank (common practice: the shoulder singularity of a cylindrical
+    arm; Spong, Hutchinson & Vidyasagar, *Robot Modeling and Control*, ch. 4)."""
+    ch = chain_from_dh([DHRow("turn", "revolute", d=200.0),
+                        DHRow("lift", "prismatic", alpha=-np.pi / 2, lower=100.0, upper=800.0),
+                        DHRow("reach", "prismatic", lower=-200.0, upper=700.0)])
+    s = assess(ch, [0.3, 300.0, 0.0])
+    assert s.level == "at"
+    assert [(f.kind, f.joints, f.detail) for f in s.findings] == [("shoulder", (0,), "tool")]
+    assert "tool point on the base axis (turn cannot move it)" in report.singularity_words(ch, s)[1]
+    assert assess(ch, [0.3, 300.0, 250.0]).level == "clear"

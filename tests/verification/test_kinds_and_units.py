@@ -135,9 +135,6 @@ def test_fk_names_the_kind_on_new_arms_and_mounts(name, q_user, kinds):
         assert (js["singularity"]["level"] == "at") == bool(kinds)
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "poser fk words a singularity of an arm with a lateral shoulder offset as 'wrist centre on the base axis "
-    "(J1 cannot move it)' although the wrist centre is |d2| (130 / 140 mm) from axis 1 and J1 moves it"))
 @pytest.mark.parametrize("name,q_user", [("stanford_like", [0, 0, 500, 0, 30, 0]), ("six_lateral", "double root")])
 def test_shoulder_words_are_true_of_arms_with_a_lateral_offset(name, q_user):
     from scipy.optimize import brentq
@@ -181,10 +178,6 @@ def test_standard_modified_and_metres_give_the_same_branches(name):
             assert keys[0] == keys[1] == keys[2]
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "a cylindrical RPP arm with its radial slide at 0 (the tool point on axis 1, J1 cannot move it) is called "
-    "'generic' ('the Jacobian loses rank (joints involved: J1)'), while the turn-and-slide arm in the same "
-    "situation is called 'shoulder' ('wrist centre on the base axis')"))
 def test_cylindrical_arm_with_the_tool_point_on_axis_1_is_named_like_the_turn_and_slide_arm():
     cyl = ref.arm([dict(d=200, min=-160, max=160), dict(type=P_, alpha=-90, min=100, max=800),
                    dict(type=P_, min=-200, max=700)], name="cylinder through the axis")
