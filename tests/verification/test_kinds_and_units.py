@@ -188,10 +188,6 @@ def test_cylindrical_arm_with_the_tool_point_on_axis_1_is_named_like_the_turn_an
     assert {k["kind"] for k in js["singularity"]["kinds"]} == {"shoulder"}
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "two-joint spatial arm (J1: alpha 90, d 200; J2: a 400; solved numerically) with the target exactly on axis 1, "
-    "(0, 0, 600) mm: every J1 value reaches (J2 = 90 deg), yet Poser lists 65 separate branches with scattered "
-    "J1 values and no family (47 at 0.001 mm off the axis); a J1 family in one row is expected"))
 def test_two_joint_arm_with_the_target_on_axis_1_gives_a_j1_family():
     a = SMALL["rr spatial"]
     for t in (0.3, -2.0, 2.9):  # the reference: any J1 with J2 = 90 deg puts the tool point at (0, 0, 600)

@@ -37,7 +37,7 @@ from poser.core.jacobian import jacobian, joint_axes
 from poser.core.transforms import TWO_PI, wrap
 
 __all__ = ["joint_families", "turn_families", "reduced_families", "orientation_families", "free_family",
-           "position_free_joints", "STEP", "ORIENTATIONS"]
+           "position_free_joints", "point_families", "line_families", "STEP", "ORIENTATIONS"]
 
 STEP = math.pi / 180.0
 """Sampling step of a free joint or turn (1°)."""
@@ -464,6 +464,43 @@ def free_family(chain, q, free, ref):
     ranges = tuple(((float(chain.lower[j]), float(chain.upper[j])),) if rest_ok else () for j in free)
     fam = Family("joint", tuple(chain.names[j] for j in free), tuple(free), (), ranges, 1.0 if rest_ok else 0.0, 0)
     return fam, q
+
+
+def point_families(chain, Q, xyz, ref):
+    """Position only: split solutions ``Q`` (K, n) into lone ones and families of joints whose line passes
+    through the target at that solution.
+
+    Turning such a joint carries everything after it about a line through the tool point, which stays where
+    it is: the joint is free over its whole range (a singular target, e.g. the tool point on the base axis).
+    Solutions that differ only in their free joints are one family.
+
+    Returns
+    -------
+    rest : ndarray (K', n)
+        The solutions with no such joint.
+    found : list of (Family, q)
+        One entry per family (:func:`free_family`: the free joints at ``ref``, moved into their limits).
+    """
+    Q = np.asarray(Q, float)
+    rev = chain.revolute
+    rest, pending = [], {}
+    x = np.asarray(xyz, float)
+    for q in Q:
+        o, w, _ = joint_axes(chain, q)
+        d = x - o
+        off = np.linalg.norm(d - w * np.sum(d * w, axis=1)[:, None], axis=1)
+        free = tuple(int(i) for i in np.flatnonzero(rev & (off <= COLLINEAR * chain.scale)))
+        if not free:
+            rest.append(q)
+            continue
+        key = q.copy()
+        key[list(free)] = 0.0
+        pending.setdefault(free, []).append(np.where(rev, wrap(key), key))
+    found = []
+    for free, keys in pending.items():
+        for key in _unique_rows(chain, np.array(keys)):
+            found.append(free_family(chain, key, free, ref))
+    return np.array(rest).reshape(-1, chain.n), found
 
 
 COLLINEAR = 1e-7

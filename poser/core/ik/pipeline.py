@@ -249,6 +249,10 @@ def _numeric_candidates(chain, xyz, R, ref, C, tol, redundant, options, deadline
             ev = evaluate(chain, Q, xyz, R)
             err = np.asarray(ev.position_error) / tol[0] + np.asarray(ev.orientation_error) / tol[1]
             Q = Q[np.argsort(err, kind="stable")]
+        if R is None:  # joints whose line passes through the target are free over their whole range
+            Q, found = families.point_families(chain, Q, xyz, ref)
+            for fam, row in found:
+                C.add(row, fam)
         for fam, row in families.line_families(chain, Q[_dedupe(chain, Q, NUMERIC_SAME)], ref):
             C.add(row, fam)
         return complete
