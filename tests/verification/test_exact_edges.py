@@ -97,11 +97,6 @@ def test_a_bent_offset_tool_on_any_mount(mount):
         assert not problems, "\n".join(problems[:6])
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "five-axis arm (numerical solver) at an exactly stretched elbow, pose J = 20, 30, 0, 40, 50 deg: the reference "
-    "has 2 solutions (4 with J5's turns); Poser lists 34 branches '34 of 34', about nine near-copies of each "
-    "(J3 = ±0.003…0.006 deg, position errors 3e-7…1.2e-6 mm, inside the tolerance because the error is "
-    "quadratic there) split into 'elbow up' / 'elbow down'; the stretched solution itself (J3 = 0) is not listed"))
 @pytest.mark.parametrize("q_user", [[20, 30, 0, 40, 50], [0, 30, 0, 60, 0]])
 def test_numerically_solved_arm_at_an_exactly_stretched_elbow_lists_each_solution_once(q_user):
     a = arms.five_axis()

@@ -22,7 +22,7 @@ from poser.core.fk import frames
 from poser.core.jacobian import jacobian_from_frames
 from poser.core.transforms import TWO_PI, rotation_vector, wrap
 
-__all__ = ["seeds", "dls", "MAX_ITER"]
+__all__ = ["seeds", "dls", "settle_singular", "MAX_ITER"]
 
 MAX_ITER = 60
 """Iterations each start may take."""
@@ -179,3 +179,91 @@ def dls(chain, P, R, q0, *, tol, max_iter=MAX_ITER, clip=False, weight=(1.0, 1.0
     ori_err = np.linalg.norm(e[:, 3:], axis=1) / weight[1] if m > 3 else np.zeros(K)
     converged = (pos_err <= tol[0]) & (ori_err <= tol[1])
     return q, pos_err, ori_err, converged
+
+
+SETTLE_BELOW = 1e-3
+"""Solutions whose Jacobian's smallest singular value is below this fraction of its largest are settled."""
+SETTLE_SPAN = 4e-3
+"""Half-width (rad, or a fraction of the arm's size for slides) of the first line search of a settle."""
+SETTLE_LEVELS = 6
+SETTLE_ROUNDS = 4
+SETTLE_POINTS = 41
+
+
+def _settle_parts(chain, P, R, Q):
+    """Residual (K, m), dimensionless Jacobian's SVD (s, Vt) and the joint scaling of :func:`settle_singular`."""
+    F = frames(chain, Q)
+    e = _residual(chain, P, R, F, (1.0, 1.0))
+    m = e.shape[1]
+    row_scale = np.ones(m)
+    row_scale[:3] = 1.0 / chain.scale
+    col_scale = np.where(chain.revolute, 1.0, chain.scale)
+    J = jacobian_from_frames(chain, F)[:, :m, :] * row_scale[None, :, None] * col_scale[None, None, :]
+    U, s, Vt = np.linalg.svd(J)
+    return e, U, s, Vt, col_scale
+
+
+def settle_singular(chain, P, R, Q):
+    """Near-singular solutions ``Q`` (K, n) settled at the singular solution they lie beside.
+
+    Beside a singular solution (an elbow exactly stretched, say) the error grows with the square of the
+    distance from it, so a solver stops within the tolerance anywhere in a small valley around it and many
+    starts stop at many places.  Each solution whose Jacobian is near singular (smallest singular value
+    below :data:`SETTLE_BELOW` of the largest, in the solver's dimensionless units) takes
+    :data:`SETTLE_ROUNDS` rounds of a Gauss–Newton step in the well-determined directions and a search
+    along the weakest one (the right singular vector of the smallest singular value) for the least error,
+    on nested grids (:data:`SETTLE_LEVELS` levels of :data:`SETTLE_POINTS` points, each 20× finer): the
+    copies meet at the singular solution itself.  A fixed budget, no time; a round that does not lower
+    a solution's error leaves it as it was, and solutions that are not near singular are not touched.
+
+    Returns
+    -------
+    ndarray (K, n)
+    """
+    Q = np.array(Q, dtype=float)
+    if not len(Q):
+        return Q
+    rev = chain.revolute
+    e, U, s, Vt, col_scale = _settle_parts(chain, P, R, Q)
+    r = min(e.shape[1], chain.n)
+    idx = np.flatnonzero(s[:, r - 1] <= SETTLE_BELOW * np.maximum(s[:, 0], 1e-300))
+    if not idx.size:
+        return Q
+    q = Q[idx]
+    cost = np.sum(e[idx] ** 2, axis=1)
+    U, s, Vt = U[idx], s[idx], Vt[idx]
+    ts = np.linspace(-1.0, 1.0, SETTLE_POINTS)
+    k_all = np.arange(len(idx))
+    e_now = e[idx]
+    for _round in range(SETTLE_ROUNDS):
+        # Gauss-Newton in the well-determined directions (the weakest one left out)
+        ew = np.einsum("kmi,km->ki", U[:, :, : r - 1], e_now)
+        dz = np.einsum("ki,kin->kn", ew / s[:, : r - 1], Vt[:, : r - 1, :])
+        qn = q + dz * col_scale
+        qn = np.where(rev, wrap(qn), qn)
+        en = _residual(chain, P, R, frames(chain, qn), (1.0, 1.0))
+        cn = np.sum(en * en, axis=1)
+        better = cn < cost
+        q = np.where(better[:, None], qn, q)
+        cost = np.where(better, cn, cost)
+        # the weakest direction: the least error along it
+        v = Vt[:, r - 1, :] * col_scale
+        best_t = np.zeros(len(idx))
+        span = SETTLE_SPAN
+        for _level in range(SETTLE_LEVELS):
+            t = best_t[:, None] + span * ts[None, :]
+            cand = q[:, None, :] + t[..., None] * v[:, None, :]
+            cand = np.where(rev, wrap(cand), cand).reshape(-1, chain.n)
+            ec = _residual(chain, P, R, frames(chain, cand), (1.0, 1.0))
+            c = np.sum(ec * ec, axis=1).reshape(len(idx), SETTLE_POINTS)
+            k = np.argmin(c, axis=1)
+            ck = c[k_all, k]
+            better = ck < cost
+            best_t = np.where(better, t[k_all, k], best_t)
+            cost = np.where(better, ck, cost)
+            span /= 20.0
+        moved = q + best_t[:, None] * v
+        q = np.where(rev, wrap(moved), moved)
+        e_now, U, s, Vt, _ = _settle_parts(chain, P, R, q)
+    Q[idx] = q
+    return Q

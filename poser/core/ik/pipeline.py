@@ -243,6 +243,7 @@ def _numeric_candidates(chain, xyz, R, ref, C, tol, redundant, options, deadline
     q, conv, complete = _run_starts(chain, xyz, R, S, tol, deadline)
     Q = q[conv]
     if not redundant:
+        Q = numeric.settle_singular(chain, xyz, R, Q)  # copies around a singular solution meet at it
         # near a singular pose the solver stops within tolerance but a little apart on each start (1e-6 rad
         # near a stretched elbow): the most accurate copy first, copies within NUMERIC_SAME of it dropped
         if len(Q) > 1:
@@ -504,7 +505,7 @@ def _solve(chain, xyz, R, near, tol, method, options):
             # window the sampling of a family missed): the target is reachable, with this branch
             branches, total = _with_closest(chain, branches, closest, total)
             reachable, closest = True, None
-        elif ev.position_error[0] > tol[0]:
+        else:  # the position, the orientation or both missed: the closest approach's pose is the nearest reachable
             nearest_point = ev.tool[0, :3, 3].copy()
             nearest_rotation = ev.tool[0, :3, :3].copy()
             nearest_point.setflags(write=False)

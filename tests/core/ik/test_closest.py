@@ -73,6 +73,21 @@ def test_a_position_reached_with_the_wrong_orientation_says_so():
     T = ch.fk(np.array([0.2, 0.5, 0.3]))
     R = T[:3, :3] @ rpy_to_matrix([0.0, 0.4, 0.0])
     res = solve(ch, T[:3, 3], R)
-    assert not res.reachable and res.nearest_point is None
+    assert not res.reachable and res.nearest_point is not None  # the nearest pose: this point, another orientation
     assert res.closest.position_error <= res.tolerance[0]
+    assert solve(ch, res.nearest_point, res.nearest_rotation).reachable
     assert "reaches the position but misses the orientation by" in report.ik_message(ch, res)
+
+
+def test_a_position_reached_with_an_orientation_out_of_reach_still_gives_the_nearest_pose():
+    """Heron 6 at 1900, 0, 800 mm with the tool along world x (rpy 0, 0, 0): the point is within reach but no
+    pose within the limits has that orientation there.  The closest approach reaches the position; its pose
+    is the nearest reachable one, stated, and typed back in it is reached."""
+    ch = _demo("heron6")
+    xyz, R = np.array([1900.0, 0.0, 800.0]), rpy_to_matrix([0.0, 0.0, 0.0])
+    res = solve(ch, xyz, R)
+    assert not res.reachable
+    assert res.closest.position_error <= res.tolerance[0] < res.closest.orientation_error
+    assert res.nearest_point is not None and np.allclose(res.nearest_point, xyz, atol=res.tolerance[0])
+    assert solve(ch, res.nearest_point, res.nearest_rotation).reachable
+    assert "The nearest reachable point is 1900, 0, 800 mm with the tool at rpy" in report.ik_message(ch, res)
