@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import re
+import sys
 
 import numpy as np
 
@@ -31,6 +32,12 @@ class Parser(argparse.ArgumentParser):
 
     def error(self, message):
         raise UsageError(message)
+
+    def _print_message(self, message, file=None):
+        """Write ``--help`` and ``--version`` text and let a failed write fail (argparse of Python 3.11.7 on
+        drops the error, and ``poser --help >/dev/full`` then ends with exit 0 and no help)."""
+        if message:
+            (file or sys.stderr).write(message)
 
 
 def glue_negative_lists(argv):
