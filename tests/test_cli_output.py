@@ -84,3 +84,17 @@ def test_a_good_answer_still_exits_with_its_own_status(buffering):
     assert ok.returncode == 1 and "nearest reachable point" in ok.stdout and ok.stderr == ""
     ok = _poser(("--version",), buffering, stdout=subprocess.PIPE)
     assert ok.returncode == 0 and ok.stdout.startswith("poser ")
+
+
+@pytest.mark.parametrize("joints, message", [
+    ("", "--joints needs 6 comma-separated numbers, got nothing"),
+    ("1,,2,3,4,5", "--joints has an empty value (number 2) in '1,,2,3,4,5'; write one number between each two commas"),
+    ("0,0,0,0,0,0,", "--joints has an empty value (number 7) in '0,0,0,0,0,0,'; write one number between each two "
+                     "commas"),
+])
+def test_empty_joint_values_are_named(joints, message, capsys):
+    from poser.cli import main
+
+    assert main(["fk", HERON, "--joints", joints]) == 2
+    out, err = capsys.readouterr()
+    assert out == "" and err == f"poser: error: {message}\n"

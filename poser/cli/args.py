@@ -62,9 +62,15 @@ def glue_negative_lists(argv):
 
 def parse_list(text: str, what: str, count: int | None = None) -> np.ndarray:
     """Parse ``"1,-2.5,3"`` into floats; ``what`` names the option in messages."""
+    if not text.strip():
+        needs = f"{count} comma-separated numbers" if count is not None else "comma-separated numbers"
+        raise UsageError(f"{what} needs {needs}, got nothing")
     parts = [p.strip() for p in text.split(",")]
     values = []
-    for p in parts:
+    for k, p in enumerate(parts):
+        if not p:
+            raise UsageError(f"{what} has an empty value (number {k + 1}) in {text!r}; write one number between "
+                             "each two commas")
         if p.lower().lstrip("+-") in ("nan", "inf", "infinity"):
             raise UsageError(f"{what} must be finite numbers, got {p!r}")
         if not _NUMBER.match(p):
