@@ -16,6 +16,8 @@ convention).
 
 from __future__ import annotations
 
+import math
+
 from PySide6.QtCore import QEvent, QItemSelectionModel, QSignalBlocker, Qt
 from PySide6.QtGui import QAction, QBrush, QColor, QKeySequence, QPalette, QPen
 from PySide6.QtWidgets import (
@@ -651,7 +653,7 @@ class EditorPanel(QWidget):
         at = self.table.rowCount() if r < 0 else r + 1
         names = [self.cell(k, "name") for k in range(self.table.rowCount())]
         angle = self.angle.currentText()
-        lim = 180.0 if angle == "deg" else 3.14159
+        lim = 180 if angle == "deg" else math.pi  # half a turn either way, in the arm's angle unit (exact)
         self._append_row(JointSpec(name=new_joint_name(names, at + 1), type="revolute", min=-lim, max=lim), at)
         self.table.selectRow(at)
         self.edited()

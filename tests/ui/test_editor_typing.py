@@ -100,3 +100,19 @@ def test_the_invalid_cell_stays_filled_in_the_selected_row(make_window, qtbot):
     assert near(img.pixelColor(other.x() + 8, other.y() + 8), selection)  # the row is selected
     fill = img.pixelColor(bad.x() + 10, bad.y() + 7)
     assert near(fill, QColor(BAD_CELL)), fill.name()  # the cell at fault is not hidden by it
+
+
+def test_a_joint_added_to_a_radian_arm_turns_exactly_half_a_turn_each_way(make_window, tmp_path):
+    import math
+
+    path = tmp_path / "rad.toml"
+    path.write_text('format = 1\n[units]\nangle = "rad"\n[[joint]]\nname = "J1"\ntype = "revolute"\nmin = -3\n'
+                    "max = 3\n", encoding="utf-8")
+    win = make_window(path)
+    ed = win.editor
+    ed.table.selectRow(0)
+    ed.add_joint()
+    j = win.state.spec.joints[1]
+    assert (j.name, j.min, j.max) == ("J2", -math.pi, math.pi)  # not 3.14159, which falls short of π
+    assert win.save()
+    assert armfile.load(path).joints[1].max == math.pi
