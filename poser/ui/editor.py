@@ -42,7 +42,7 @@ from poser.armfile import ArmFileError, ArmSpec, JointSpec, Problem, convert_con
 from poser.core.dh import CONVENTIONS
 from poser.core.errors import PoserError
 from poser.core.units import ANGLE_UNITS, LENGTH_UNITS, Units
-from poser.text import name_key
+from poser.text import name_key, printable
 from poser.ui import palette
 from poser.ui.questions import Asker
 from poser.ui.state import PoseState
@@ -160,6 +160,13 @@ class CellDelegate(QStyledItemDelegate):
 
     def _make(self, parent, option, index):
         return super().createEditor(parent, option, index)
+
+    def initStyleOption(self, option, index):  # noqa: N802 - Qt's name
+        """A name is shown as every other part of the window shows it (control characters, bidirectional
+        overrides and blank letters as escapes); its editor holds the name exactly, to edit."""
+        super().initStyleOption(option, index)
+        if index.column() == KEYS.index("name"):
+            option.text = printable(option.text)
 
     def paint(self, painter, option, index):
         """A cell at fault keeps its fill and gets a frame even in the selected row (the selection colour

@@ -8,6 +8,7 @@ from __future__ import annotations
 import os
 
 import pytest
+from PySide6.QtCore import Qt
 
 from poser import armfile
 
@@ -121,3 +122,19 @@ def test_names_with_control_and_blank_characters_are_escaped_in_the_window(make_
     label = win.joints.rows[5].name.text()
     assert label == "J6\\t\\x07\\u200b"
     assert win.editor.cell(5, "name") == "J6\t\x07\u200b"  # the editor keeps the name exactly, for editing
+
+
+def test_the_editor_shows_a_name_escaped_and_edits_it_exactly(make_window, heron_path, qtbot):
+    from PySide6.QtWidgets import QStyleOptionViewItem
+
+    from poser.ui.editor import KEYS
+
+    win = make_window(heron_path)
+    ed = win.editor
+    ed.set_cell(5, "name", "J6 \u202eegnalf")  # a right-to-left override would turn the rest of the row around
+    assert ed.problems == [] and win.state.spec.joints[5].name == "J6 \u202eegnalf"
+    index = ed.table.model().index(5, KEYS.index("name"))
+    opt = QStyleOptionViewItem()
+    ed.table.itemDelegateForIndex(index).initStyleOption(opt, index)
+    assert opt.text == "J6 \\u202eegnalf"
+    assert index.data(Qt.ItemDataRole.EditRole) == "J6 \u202eegnalf"  # what the cell's editor opens with
