@@ -192,7 +192,7 @@ def test_values_beyond_limits_are_warned_about(capsys):
         (["fk", HERON, "--joints", "1,2,3"], r"--joints needs 6 values, got 3"),
         (["fk", HERON, "--joints", "1,2,3,4,5,6,7"], r"--joints needs 6 values, got 7"),
         (["fk", HERON, "--joints", "1,2,x,4,5,6"], r"--joints must be comma-separated numbers, got 'x'"),
-        (["fk", HERON, "--joints", "1,2,,4,5,6"], r"--joints must be comma-separated numbers, got ''"),
+        (["fk", HERON, "--joints", "1,2,,4,5,6"], r"--joints has an empty value \(number 3\)"),
         (["fk", HERON, "--joints", "1,2,nan,4,5,6"], r"--joints must be finite numbers"),
         (["fk", HERON, "--joints=1,2,inf,4,5,6"], r"--joints must be finite numbers"),
         (["fk", HERON], r"the following arguments are required: --joints"),

@@ -16,12 +16,14 @@ from __future__ import annotations
 
 import argparse
 import difflib
+import errno
 import os
 import sys
 
 from poser import __version__
 from poser.cli import check, fk, ik, reach, window
 from poser.cli.args import Parser, UsageError, glue_negative_lists, load_arm, parse_list
+from poser.text import printable
 
 __all__ = ["main", "entry", "UsageError", "load_arm", "parse_list", "SUBCOMMANDS"]
 
@@ -77,46 +79,93 @@ def _run(argv) -> int:
     return window.run(args)
 
 
-def _silence_stdout():
+class OutputError(OSError):
+    """Standard output could not be written (a closed pipe, a full disk, no standard output at all)."""
+
+
+class _GuardedOutput:
+    """Standard output for a subcommand: a write or flush that fails raises :class:`OutputError`, so a failed
+    answer is told apart from other errors (exit 2, ``poser: error: cannot write the output: …``); a missing
+    stream (``poser fk … >&-``) fails at the first write instead of dropping the answer silently."""
+
+    def __init__(self, stream):
+        self._stream = stream
+
+    def _fail(self, exc):
+        raise OutputError(getattr(exc, "errno", None) or errno.EIO, getattr(exc, "strerror", None) or str(exc))
+
+    def write(self, text):
+        if self._stream is None:
+            raise OutputError(errno.EBADF, "standard output is closed")
+        try:
+            return self._stream.write(text)
+        except (OSError, ValueError) as exc:  # ValueError: the stream was closed
+            self._fail(exc)
+
+    def flush(self):
+        if self._stream is None:
+            return
+        try:
+            self._stream.flush()
+        except (OSError, ValueError) as exc:
+            self._fail(exc)
+
+    def __getattr__(self, name):
+        return getattr(self._stream, name)
+
+
+def _answers_on_stdout(argv) -> bool:
+    """Whether this command line prints its answer on stdout (a subcommand, --help, --version; not the window)."""
+    return bool(argv) and (argv[0] in SUBCOMMANDS or any(a in ("-h", "--help", "--version") for a in argv))
+
+
+def _silence_stdout(stream):
     """After a failed write, point stdout at /dev/null so the interpreter's last flush stays quiet."""
     try:
         fd = os.open(os.devnull, os.O_WRONLY)
-        os.dup2(fd, sys.stdout.fileno())
+        os.dup2(fd, stream.fileno())
         os.close(fd)
     except (OSError, ValueError, AttributeError):
+        pass
+
+
+def _say(text: str) -> None:
+    try:
+        print(text, file=sys.stderr)
+    except (OSError, ValueError, AttributeError):  # stderr closed or missing too: the exit status still says it
         pass
 
 
 def main(argv=None) -> int:
     _tolerant_output()
     argv = glue_negative_lists(list(sys.argv[1:] if argv is None else argv))
+    real = sys.stdout
+    guarded = _answers_on_stdout(argv)
+    if guarded:
+        sys.stdout = _GuardedOutput(real)
     try:
-        code = _run(argv)
+        try:
+            code = _run(argv)
+        except SystemExit as exc:  # --help and --version
+            code = int(exc.code or 0)
         sys.stdout.flush()  # a write that fails must fail here, as an error, not as an answer
         return code
     except UsageError as exc:
-        print(f"poser: error: {exc}", file=sys.stderr)
+        _say(f"poser: error: {exc}")
         return 2
-    except SystemExit as exc:  # --help and --version
-        try:
-            sys.stdout.flush()
-        except OSError as err:
-            print(f"poser: error: cannot write the output: {err.strerror or err}", file=sys.stderr)
-            _silence_stdout()
-            return 2
-        return int(exc.code or 0)
     except KeyboardInterrupt:
-        print("poser: interrupted", file=sys.stderr)
+        _say("poser: interrupted")
         return 130
-    except OSError as exc:  # stdout closed (a pipe) or full (a disk): no answer was given
-        if exc.errno is None and not isinstance(exc, BrokenPipeError):
-            raise
-        _silence_stdout()
-        try:
-            print(f"poser: error: cannot write the output: {exc.strerror or exc}", file=sys.stderr)
-        except OSError:
-            pass
+    except (OutputError, BrokenPipeError) as exc:  # stdout closed (a pipe) or full (a disk): no answer was given
+        _silence_stdout(real)
+        _say(f"poser: error: cannot write the output: {exc.strerror or exc}")
         return 2
+    except OSError as exc:  # any other system error on the way: named, not a traceback
+        _say(f"poser: error: {exc.strerror or exc}" + (f": {printable(exc.filename)}" if exc.filename else ""))
+        return 2
+    finally:
+        if guarded:
+            sys.stdout = real
 
 
 def entry() -> None:

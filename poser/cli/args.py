@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import re
+import sys
 
 import numpy as np
 
@@ -32,6 +33,12 @@ class Parser(argparse.ArgumentParser):
     def error(self, message):
         raise UsageError(message)
 
+    def _print_message(self, message, file=None):
+        """Write ``--help`` and ``--version`` text and let a failed write fail (argparse of Python 3.11.7 on
+        drops the error, and ``poser --help >/dev/full`` then ends with exit 0 and no help)."""
+        if message:
+            (file or sys.stderr).write(message)
+
 
 def glue_negative_lists(argv):
     """Let ``--joints -30,45,0`` work like ``--joints=-30,45,0`` (also ``-nan`` and ``-inf``, to be refused
@@ -55,9 +62,15 @@ def glue_negative_lists(argv):
 
 def parse_list(text: str, what: str, count: int | None = None) -> np.ndarray:
     """Parse ``"1,-2.5,3"`` into floats; ``what`` names the option in messages."""
+    if not text.strip():
+        needs = f"{count} comma-separated numbers" if count is not None else "comma-separated numbers"
+        raise UsageError(f"{what} needs {needs}, got nothing")
     parts = [p.strip() for p in text.split(",")]
     values = []
-    for p in parts:
+    for k, p in enumerate(parts):
+        if not p:
+            raise UsageError(f"{what} has an empty value (number {k + 1}) in {text!r}; write one number between "
+                             "each two commas")
         if p.lower().lstrip("+-") in ("nan", "inf", "infinity"):
             raise UsageError(f"{what} must be finite numbers, got {p!r}")
         if not _NUMBER.match(p):

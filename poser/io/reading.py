@@ -33,6 +33,7 @@ from poser.io.spec import (
     validate,
 )
 from poser.io.stamp import MAX_BYTES, DiskStamp, read_regular
+from poser.text import brief
 
 __all__ = ["load", "loads", "loads_bytes", "MAX_ITEMS", "MAX_DEPTH", "MAX_KEY_PARTS"]
 
@@ -43,6 +44,8 @@ MAX_DEPTH = 32
 """Deepest nesting of arrays and tables."""
 MAX_KEY_PARTS = 32
 """Most parts of one dotted key (``a.b.c`` has 3)."""
+MAX_DIGITS = 4300
+"""Most digits of an integer Python reads (``sys.get_int_max_str_digits``); more is refused with a message."""
 
 _KEY_PART = r"""(?:[A-Za-z0-9_-]+|"[^"\r\n]*"|'[^'\r\n]*')"""
 _LONG_KEY = re.compile(r"(?:^|[{,\[])[ \t]*(?:" + _KEY_PART + r"[ \t]*\.[ \t]*){" + str(MAX_KEY_PARTS) + "}", re.M)
@@ -60,6 +63,17 @@ def _prescan(text: str, file: str) -> None:
         line = text.count("\n", 0, m.start()) + 1
         raise ArmFileError([Problem(f"a dotted key has more than {MAX_KEY_PARTS} parts; an arm file needs no such key",
                                     file, line)])
+
+
+_DIGITS = re.compile(r"[0-9][0-9_]{" + str(MAX_DIGITS - 1) + ",}")
+
+
+def _long_integer(text: str, file: str) -> Problem:
+    m = _DIGITS.search(text)
+    line = text.count("\n", 0, m.start()) + 1 if m else None
+    size = f" of {len(m.group(0).replace('_', ''))} digits" if m else ""
+    return Problem(f"an integer{size} is far beyond any value an arm file holds (numbers lie within ±1e9)",
+                   file, line)
 
 
 def _depth(data) -> int:
@@ -127,6 +141,8 @@ def loads(text: str, file: str = "<arm>", *, bom: bool = False) -> ArmSpec:
         raise ArmFileError([_toml_problem(exc, text, file)]) from None
     except RecursionError:
         data = None
+    except ValueError:  # an integer of more digits than Python converts (sys.get_int_max_str_digits)
+        raise ArmFileError([_long_integer(text, file)]) from None
     if data is None or _depth(data) > MAX_DEPTH:
         raise ArmFileError([Problem(f"values are nested more than {MAX_DEPTH} levels deep; an arm file needs "
                                     "no such nesting", file)])
@@ -153,14 +169,14 @@ def _build(data: dict, file: str, source: ArmSource) -> ArmSpec:
 
     for key in data:
         if key not in TOP_KEYS:
-            bad(f"unknown key {key!r} at top level; expected one of {', '.join(TOP_KEYS)} "
+            bad(f"unknown key {brief(key)} at top level; expected one of {', '.join(TOP_KEYS)} "
                 "(put your own data under [notes])", (key,))
     fmt = data.get("format")
     if fmt is None:
         bad("'format = 1' is missing at the top of the file")
     elif type(fmt) is not int or fmt != FORMAT:
         hint = " (an integer: write 1, not 1.0)" if type(fmt) is float and fmt == FORMAT else ""
-        bad(f"format must be the integer 1, got {fmt!r}{hint}; this Poser reads arm-file format 1", ("format",))
+        bad(f"format must be the integer 1, got {brief(fmt)}{hint}; this Poser reads arm-file format 1", ("format",))
 
     name = data.get("name", default_name(file))
     convention = data.get("convention", "standard")
@@ -168,18 +184,18 @@ def _build(data: dict, file: str, source: ArmSource) -> ArmSpec:
     units_tbl = data.get("units", {})
     length, angle = "mm", "deg"
     if not isinstance(units_tbl, dict):
-        bad(f"[units] must be a table, got {units_tbl!r}", ("units",))
+        bad(f"[units] must be a table, got {brief(units_tbl)}", ("units",))
     else:
         for key in units_tbl:
             if key not in UNIT_KEYS:
-                bad(f"unknown key {key!r} in [units]; expected length or angle", ("units", key))
+                bad(f"unknown key {brief(key)} in [units]; expected length or angle", ("units", key))
         length = units_tbl.get("length", "mm")
         angle = units_tbl.get("angle", "deg")
         if not isinstance(length, str) or length not in LENGTH_UNITS:
-            bad(f"[units] length must be one of {', '.join(LENGTH_UNITS)}, got {length!r}", ("units", "length"))
+            bad(f"[units] length must be one of {', '.join(LENGTH_UNITS)}, got {brief(length)}", ("units", "length"))
             length = "mm"
         if not isinstance(angle, str) or angle not in ANGLE_UNITS:
-            bad(f"[units] angle must be one of {', '.join(ANGLE_UNITS)}, got {angle!r}", ("units", "angle"))
+            bad(f"[units] angle must be one of {', '.join(ANGLE_UNITS)}, got {brief(angle)}", ("units", "angle"))
             angle = "deg"
 
     places = {}
@@ -187,11 +203,11 @@ def _build(data: dict, file: str, source: ArmSource) -> ArmSpec:
         tbl = data.get(label, {})
         places[label] = ((0.0, 0.0, 0.0), (0.0, 0.0, 0.0))
         if not isinstance(tbl, dict):
-            bad(f"[{label}] must be a table with xyz and rpy, got {tbl!r}", (label,))
+            bad(f"[{label}] must be a table with xyz and rpy, got {brief(tbl)}", (label,))
             continue
         for key in tbl:
             if key not in PLACE_KEYS:
-                bad(f"unknown key {key!r} in [{label}]; expected xyz or rpy", (label, key))
+                bad(f"unknown key {brief(key)} in [{label}]; expected xyz or rpy", (label, key))
         vecs = []
         for key in PLACE_KEYS:
             v = tbl.get(key, [0.0, 0.0, 0.0])
@@ -219,7 +235,7 @@ def _build(data: dict, file: str, source: ArmSource) -> ArmSpec:
         label = jname if isinstance(jname, str) and jname else f"#{idx + 1}"
         for key in tbl:
             if key not in JOINT_KEYS:
-                bad(f"unknown key {key!r}; a joint takes {', '.join(JOINT_KEYS)}", ("joint", idx, key), label)
+                bad(f"unknown key {brief(key)}; a joint takes {', '.join(JOINT_KEYS)}", ("joint", idx, key), label)
         if "type" not in tbl:
             bad('type is missing; give type = "revolute" or "prismatic"', ("joint", idx), label)
         joints.append(JointSpec(

@@ -22,6 +22,7 @@ from __future__ import annotations
 
 import copy
 import math
+import unicodedata
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -31,7 +32,7 @@ from poser.core.dh import CONVENTIONS, DHRow, chain_from_dh
 from poser.core.transforms import from_xyz_rpy
 from poser.core.units import Units
 from poser.io.errors import ArmFileError, Problem
-from poser.text import name_key, printable, visible
+from poser.text import brief, name_key, printable, visible
 
 __all__ = [
     "ArmSpec",
@@ -203,6 +204,11 @@ def _is_finite(v) -> bool:
         return False
 
 
+def _looks(name: str) -> str:
+    """How a name looks once printed: escapes shown, Unicode form and kinds of space ignored."""
+    return "".join(unicodedata.normalize("NFKC", printable(name)).split())
+
+
 def _no_line(_path):
     return None
 
@@ -226,12 +232,12 @@ def validate(spec: ArmSpec, file: str = "<arm>", lines=None) -> list[Problem]:
         out.append(Problem(msg, file, line(where) if where else None, joint))
 
     if not isinstance(spec.name, str) or not spec.name:
-        bad(f"name must be a non-empty text, got {spec.name!r}", ("name",))
+        bad(f"name must be a non-empty text, got {brief(spec.name)}", ("name",))
     elif not visible(spec.name):
-        bad(f"name must hold a visible character (not only spaces or invisible characters), got {spec.name!r}",
+        bad(f"name must hold a visible character (not only spaces or invisible characters), got {brief(spec.name)}",
             ("name",))
     if spec.convention not in CONVENTIONS:
-        bad(f"convention must be 'standard' or 'modified', got {spec.convention!r}", ("convention",))
+        bad(f"convention must be 'standard' or 'modified', got {brief(spec.convention)}", ("convention",))
     for label, key in (("base", "xyz"), ("base", "rpy"), ("tool", "xyz"), ("tool", "rpy")):
         vec = getattr(spec, f"{label}_{key}")
         try:
@@ -239,12 +245,12 @@ def validate(spec: ArmSpec, file: str = "<arm>", lines=None) -> list[Problem]:
         except TypeError:
             vec = [vec]
         if len(vec) != 3 or not all(_is_number(v) for v in vec):
-            bad(f"[{label}] {key} must be a list of three numbers, got {vec!r}", (label, key))
-        elif not all(_is_finite(v) for v in vec):
-            bad(f"[{label}] {key} must be finite, got {vec!r}", (label, key))
-        elif not all(abs(v) <= MAX_MAGNITUDE for v in vec):
+            bad(f"[{label}] {key} must be a list of three numbers, got {brief(vec)}", (label, key))
+        elif not all(_is_finite(v) or isinstance(v, int) for v in vec):
+            bad(f"[{label}] {key} must be finite, got {brief(vec)}", (label, key))
+        elif not all(abs(v) <= MAX_MAGNITUDE for v in vec):  # also an integer too large for a float
             vunit = spec.units.length if key == "xyz" else spec.units.angle
-            bad(f"[{label}] {key} must lie within ±{_MAX_TEXT} {vunit}, got {vec!r}", (label, key))
+            bad(f"[{label}] {key} must lie within ±{_MAX_TEXT} {vunit}, got {brief(vec)}", (label, key))
     if not spec.joints:
         bad("the arm has no joints; add at least one [[joint]] table")
     if len(spec.joints) > MAX_JOINTS:
@@ -255,9 +261,9 @@ def validate(spec: ArmSpec, file: str = "<arm>", lines=None) -> list[Problem]:
         named = isinstance(j.name, str) and bool(visible(j.name))
         jname = j.name if named else f"#{idx + 1}"
         if not isinstance(j.name, str) or not j.name:
-            bad(f"name must be a non-empty text, got {j.name!r}", ("joint", idx, "name"), jname)
+            bad(f"name must be a non-empty text, got {brief(j.name)}", ("joint", idx, "name"), jname)
         elif not named:
-            bad(f"name must hold a visible character (not only spaces or invisible characters), got {j.name!r}",
+            bad(f"name must hold a visible character (not only spaces or invisible characters), got {brief(j.name)}",
                 ("joint", idx, "name"), jname)
         elif j.name in seen:
             bad(f"name is used twice (also joint {seen[j.name] + 1}); joint names must be unique",
@@ -265,14 +271,16 @@ def validate(spec: ArmSpec, file: str = "<arm>", lines=None) -> list[Problem]:
         elif name_key(j.name) in keys:
             k = keys[name_key(j.name)]
             other = spec.joints[k].name
-            bad(f"name '{printable(j.name)}' and joint {k + 1}'s name '{printable(other)}' differ only by spaces, "
-                "invisible characters or Unicode form; joint names must be told apart at a glance",
+            alike = _looks(j.name) == _looks(other)  # even as printed: their code points tell them apart
+            written = f" (written {ascii(j.name)} and {ascii(other)})" if alike else ""
+            bad(f"name '{printable(j.name)}' and joint {k + 1}'s name '{printable(other)}'{written} differ only by "
+                "spaces, invisible characters or Unicode form; joint names must be told apart at a glance",
                 ("joint", idx, "name"), jname)
         else:
             seen[j.name] = idx
             keys[name_key(j.name)] = idx
         if j.type not in JOINT_TYPES:
-            bad(f"type must be 'revolute' or 'prismatic', got {j.type!r}", ("joint", idx, "type"), jname)
+            bad(f"type must be 'revolute' or 'prismatic', got {brief(j.type)}", ("joint", idx, "type"), jname)
         unit = spec.units.angle if j.type == "revolute" else spec.units.length
         bad_keys = set()  # keys whose value is missing or not a finite number
         for key in ("a", "alpha", "d", "theta", "min", "max", "home"):
@@ -285,21 +293,21 @@ def validate(spec: ArmSpec, file: str = "<arm>", lines=None) -> list[Problem]:
                     ("joint", idx), jname)
                 bad_keys.add(key)
             elif not _is_number(v):
-                bad(f"{key} must be a number, got {v!r}", where, jname)
+                bad(f"{key} must be a number, got {brief(v)}", where, jname)
                 bad_keys.add(key)
-            elif not _is_finite(v):
-                bad(f"{key} must be finite, got {v!r}", where, jname)
+            elif not _is_finite(v) and not isinstance(v, int):  # an integer too large for a float: its size below
+                bad(f"{key} must be finite, got {brief(v)}", where, jname)
                 bad_keys.add(key)
             elif abs(v) > MAX_MAGNITUDE:
                 key_unit = {"a": spec.units.length, "d": spec.units.length, "alpha": spec.units.angle,
                             "theta": spec.units.angle}.get(key, unit)
-                bad(f"{key} must lie within ±{_MAX_TEXT} {key_unit} (larger is absurd for an arm), got {v!r}",
+                bad(f"{key} must lie within ±{_MAX_TEXT} {key_unit} (larger is absurd for an arm), got {brief(v)}",
                     where, jname)
                 bad_keys.add(key)
             elif key in ("min", "max") and j.type == "revolute":
                 bound, text = revolute_bound(spec.units.angle)
                 if abs(v) > bound:
-                    bad(f"{key} must lie within ±{text} ({MAX_TURNS} turns) for a revolute joint, got {v!r}",
+                    bad(f"{key} must lie within ±{text} ({MAX_TURNS} turns) for a revolute joint, got {brief(v)}",
                         where, jname)
                     bad_keys.add(key)
         if not bad_keys & {"min", "max"}:  # the limits are checked even when, say, a is wrong

@@ -16,10 +16,13 @@ convention).
 
 from __future__ import annotations
 
-from PySide6.QtCore import QItemSelectionModel, QSignalBlocker, Qt
-from PySide6.QtGui import QColor
+import math
+
+from PySide6.QtCore import QEvent, QItemSelectionModel, QSignalBlocker, Qt
+from PySide6.QtGui import QAction, QBrush, QColor, QKeySequence, QPalette, QPen
 from PySide6.QtWidgets import (
     QAbstractItemView,
+    QApplication,
     QComboBox,
     QFormLayout,
     QHBoxLayout,
@@ -27,7 +30,9 @@ from PySide6.QtWidgets import (
     QLabel,
     QLineEdit,
     QPushButton,
+    QStyle,
     QStyledItemDelegate,
+    QStyleOptionViewItem,
     QTableWidgetItem,
     QVBoxLayout,
     QWidget,
@@ -37,7 +42,7 @@ from poser.armfile import ArmFileError, ArmSpec, JointSpec, Problem, convert_con
 from poser.core.dh import CONVENTIONS
 from poser.core.errors import PoserError
 from poser.core.units import ANGLE_UNITS, LENGTH_UNITS, Units
-from poser.text import name_key
+from poser.text import name_key, printable
 from poser.ui import palette
 from poser.ui.questions import Asker
 from poser.ui.state import PoseState
@@ -139,11 +144,59 @@ EXACT = Qt.ItemDataRole.UserRole
 """Where a table cell keeps the exact number it shows rounded."""
 
 
-class TypeDelegate(QStyledItemDelegate):
+class CellDelegate(QStyledItemDelegate):
+    """Edits a cell and tells the panel which editor is open, so that text typed but not yet applied is applied
+    before anything could act on the arm without it (a save, a menu, closing the window: see
+    :meth:`EditorPanel.apply_typing`)."""
+
+    def __init__(self, panel, parent=None):
+        super().__init__(parent)
+        self.panel = panel
+
+    def createEditor(self, parent, option, index):
+        editor = self._make(parent, option, index)
+        self.panel._editor_opened(self, editor)
+        return editor
+
+    def _make(self, parent, option, index):
+        return super().createEditor(parent, option, index)
+
+    def initStyleOption(self, option, index):  # noqa: N802 - Qt's name
+        """A name is shown as every other part of the window shows it (control characters, bidirectional
+        overrides and blank letters as escapes); its editor holds the name exactly, to edit."""
+        super().initStyleOption(option, index)
+        if index.column() == KEYS.index("name"):
+            option.text = printable(option.text)
+
+    def paint(self, painter, option, index):
+        """A cell at fault keeps its fill and gets a frame even in the selected row (the selection colour
+        would hide it: the row of the cell just edited is the selected one)."""
+        if (index.row(), index.column()) not in self.panel.bad_cells:
+            super().paint(painter, option, index)
+            return
+        opt = QStyleOptionViewItem(option)
+        self.initStyleOption(opt, index)
+        opt.state &= ~QStyle.StateFlag.State_Selected
+        opt.backgroundBrush = QBrush(QColor(BAD_CELL))
+        opt.palette.setColor(QPalette.ColorRole.Text, QColor(palette.TEXT))
+        widget = opt.widget
+        style = widget.style() if widget is not None else QApplication.style()
+        style.drawControl(QStyle.ControlElement.CE_ItemViewItem, opt, painter, widget)
+        painter.save()
+        painter.setPen(QPen(QColor(palette.AT), 2))
+        painter.drawRect(opt.rect.adjusted(1, 1, -1, -1))
+        painter.restore()
+
+    def destroyEditor(self, editor, index):
+        self.panel._editor_closed(editor)
+        super().destroyEditor(editor, index)
+
+
+class TypeDelegate(CellDelegate):
     """Edits the type column with a list of the two joint types (a cell widget per row cost a 32-joint arm
     tens of milliseconds to load)."""
 
-    def createEditor(self, parent, option, index):
+    def _make(self, parent, option, index):
         combo = QComboBox(parent)
         combo.addItems(TYPES)
         combo.activated.connect(lambda _i, c=combo: self.commitData.emit(c))
@@ -233,7 +286,10 @@ class EditorPanel(QWidget):
         hh.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
         self.table.verticalHeader().setDefaultSectionSize(26)
         self.table.setAccessibleName("arm rows")
-        self.type_delegate = TypeDelegate(self.table)
+        self._open_editor = None  # (delegate, editor widget) while a cell is being edited
+        self.cell_delegate = CellDelegate(self, self.table)
+        self.table.setItemDelegate(self.cell_delegate)
+        self.type_delegate = TypeDelegate(self, self.table)
         self.table.setItemDelegateForColumn(KEYS.index("type"), self.type_delegate)
         self.limits_note = QLabel()
         self.limits_note.setWordWrap(True)
@@ -487,6 +543,67 @@ class EditorPanel(QWidget):
                 return w
         return None
 
+    # -- text typed into a cell, not yet applied -----------------------------------------------------------
+    def _editor_opened(self, delegate, editor) -> None:
+        self._open_editor = (delegate, editor)
+        app = QApplication.instance()
+        if app is not None:
+            app.installEventFilter(self)
+        window = self.window()
+        if window is not None:
+            window.installEventFilter(self)
+
+    def _editor_closed(self, editor) -> None:
+        if self._open_editor is not None and self._open_editor[1] is editor:
+            self._open_editor = None
+            app = QApplication.instance()
+            if app is not None:
+                app.removeEventFilter(self)
+
+    def apply_typing(self) -> bool:
+        """Apply the text of the cell being edited, as Enter would (the editor stays open).
+
+        Called before anything that acts on the arm can see it without that text: a click anywhere else
+        (a menu, a button, another panel), a shortcut of the window (Ctrl+S saves what the cell shows, not
+        the value before it) and closing the window (which then asks about the unsaved edit).  True when
+        an editor was open.
+        """
+        if self._open_editor is None:
+            return False
+        delegate, editor = self._open_editor
+        try:
+            delegate.commitData.emit(editor)
+        except RuntimeError:  # the editor widget is gone already
+            self._open_editor = None
+            return False
+        return True
+
+    def _is_shortcut(self, ev) -> bool:
+        window = self.window()
+        plain = Qt.KeyboardModifier.ShiftModifier | Qt.KeyboardModifier.KeypadModifier
+        function_key = Qt.Key.Key_F1 <= ev.key() <= Qt.Key.Key_F35
+        if window is None or not (ev.modifiers() & ~plain or function_key):  # typing is no shortcut
+            return False
+        seq = QKeySequence(ev.keyCombination())
+        return any(seq in a.shortcuts() for a in window.findChildren(QAction) if a.isEnabled())
+
+    def eventFilter(self, obj, ev):  # noqa: N802 - Qt's name
+        if self._open_editor is not None:
+            kind = ev.type()
+            editor = self._open_editor[1]
+            try:
+                if kind == QEvent.Type.MouseButtonPress and isinstance(obj, QWidget):
+                    if obj is not editor and not editor.isAncestorOf(obj):
+                        self.apply_typing()
+                elif kind == QEvent.Type.ShortcutOverride and (obj is editor or editor.isAncestorOf(obj)):
+                    if self._is_shortcut(ev):
+                        self.apply_typing()
+                elif kind == QEvent.Type.Close and obj is self.window():
+                    self.apply_typing()
+            except RuntimeError:  # the editor widget was deleted under us
+                self._open_editor = None
+        return False
+
     # -- convention ----------------------------------------------------------------------------------------
     def _convention_changed(self) -> None:
         """Ask whether to convert the table to the new convention or to read its numbers in it."""
@@ -543,7 +660,7 @@ class EditorPanel(QWidget):
         at = self.table.rowCount() if r < 0 else r + 1
         names = [self.cell(k, "name") for k in range(self.table.rowCount())]
         angle = self.angle.currentText()
-        lim = 180.0 if angle == "deg" else 3.14159
+        lim = 180 if angle == "deg" else math.pi  # half a turn either way, in the arm's angle unit (exact)
         self._append_row(JointSpec(name=new_joint_name(names, at + 1), type="revolute", min=-lim, max=lim), at)
         self.table.selectRow(at)
         self.edited()

@@ -204,9 +204,11 @@ def test_names_that_look_the_same_are_an_error_naming_both(first, second):
     esc = second.encode("unicode_escape").decode().replace("\\x", "\\u00")
     text = ARM.replace('name = "turn"', f'name = "{first}"').replace('name = "slide"', f'name = "{esc}"')
     p = one(text)
+    # names that still look alike once printed also show their code points, so the reader sees the difference
+    written = "" if second == "J\u200b1" else f" (written {ascii(second)} and {ascii(first)})"
     assert p.message == (
-        f"name '{printable(second)}' and joint 1's name '{first}' differ only by spaces, invisible characters or "
-        "Unicode form; joint names must be told apart at a glance"
+        f"name '{printable(second)}' and joint 1's name '{first}'{written} differ only by spaces, invisible "
+        "characters or Unicode form; joint names must be told apart at a glance"
     )
     assert p.line == 11 and p.joint == second
 
