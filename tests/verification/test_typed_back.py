@@ -85,5 +85,7 @@ def test_json_and_text_carry_the_same_branches(name, q_user):
         cells = line.split()
         assert np.allclose([float(c) for c in cells[1:1 + n]], jb["joints"], atol=5e-4 + 1e-9)
         assert jb["configuration"] in line
+        manip = float(cells[1 + n + 2])  # after the position and orientation errors
+        assert abs(manip - jb["manipulability"]) <= 1e-3 * abs(jb["manipulability"]) + 1e-12
     m = re.search(r"\((\d+) listed of (\d+) found", out)
     assert m and int(m.group(1)) == js["listed"] and int(m.group(2)) == js["branch_count"]
