@@ -279,7 +279,9 @@ def test_unreachable_orientation_of_a_planar_arm():
     res = solve(ch, T[:3, 3], R)
     assert not res.reachable
     assert res.closest is not None and res.closest.orientation_error > 0.1
-    assert res.nearest_point is None  # the position itself can be reached
+    # the nearest reachable pose: the position itself, with the orientation the closest approach has
+    assert res.nearest_point is not None and np.allclose(res.nearest_point, T[:3, 3], atol=res.tolerance[0])
+    assert solve(ch, res.nearest_point, res.nearest_rotation).reachable
     assert "orientation" in report.ik_message(ch, res)
 
 
