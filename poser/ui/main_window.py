@@ -222,7 +222,14 @@ class MainWindow(QMainWindow):
         self.joints.layout().activate()  # rows just built: their size is known only once laid out
         want = self.joints.sizeHint().height() + title + 14
         joints = int(min(max(want, 0.3 * h), 0.6 * h))
-        self.resizeDocks([self.docks["joints"], self.docks["target"]], [joints, max(h - joints, 1)],
+        # the two docks share what the menu, notice and status bars leave: sizes that add up to the whole
+        # window are scaled down by Qt, and the joints' share came out short of their rows
+        room = self.docks["joints"].height() + self.docks["target"].height()
+        if room > 0:
+            joints = max(min(joints, room - 120), 1)
+        else:
+            room = h
+        self.resizeDocks([self.docks["joints"], self.docks["target"]], [joints, max(room - joints, 1)],
                          Qt.Orientation.Vertical)
 
     def _keep_joints_shown(self) -> None:

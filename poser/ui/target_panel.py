@@ -20,6 +20,7 @@ from PySide6.QtWidgets import (
     QHeaderView,
     QLabel,
     QPushButton,
+    QScrollArea,
     QTreeView,
     QVBoxLayout,
     QWidget,
@@ -41,6 +42,8 @@ FIELD_LIMIT = 1e6
 """Largest size of a value in the target fields (arm units)."""
 DECIMALS = {"mm": 3, "m": 5, "in": 4, "deg": 3, "rad": 5}
 """Decimals of the target fields by unit (a tenth of a micrometre-ish, a thousandth of a degree)."""
+DETAIL_LINES = 4
+"""Lines of the branch details under the list (a fixed height; a longer text scrolls)."""
 
 
 
@@ -173,8 +176,16 @@ class TargetPanel(QWidget):
         self.details.setWordWrap(True)
         self.details.setAccessibleName("branch details")
         self.details.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
-        self.details.setMinimumHeight(self.details.fontMetrics().lineSpacing() * 2 + 4)
-        lay.addWidget(self.details)
+        self.details.setAlignment(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignTop)
+        # a fixed height: a longer text for the hovered row must not shrink the list and move rows away
+        # from under the pointer (hover would then flicker between two rows); a longer text scrolls
+        self.details_box = QScrollArea()
+        self.details_box.setWidget(self.details)
+        self.details_box.setWidgetResizable(True)
+        self.details_box.setFrameShape(QScrollArea.Shape.NoFrame)
+        self.details_box.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.details_box.setFixedHeight(self.details.fontMetrics().lineSpacing() * DETAIL_LINES + 6)
+        lay.addWidget(self.details_box)
 
         for s in self.xyz + self.ori:
             s.valueChanged.connect(self._from_fields)

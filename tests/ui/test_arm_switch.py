@@ -103,3 +103,18 @@ def test_the_joints_dock_shows_every_joint_of_the_arm_opened(make_window, tmp_pa
     assert win.open_file(copy_demo(then, tmp_path))
     qtbot.waitUntil(lambda: _last_row_shown(win), timeout=2000)
     assert len(win.joints.rows) == win.state.chain.n >= 6
+
+
+def test_the_joints_dock_fits_the_new_arm_when_a_notice_comes_with_it(make_window, tmp_path, qtbot):
+    """Heron 6 (mm) with a target, then Lark 7 (m): the target is converted and a notice bar appears above the
+    docks at the same time; the seven rows must still fit (the dock once got the share of the whole window's
+    height, which the menu, notice and status bars make too little)."""
+    win = make_window(copy_demo("heron6.toml", tmp_path))
+    win.set_target_values([900, -300, 900, 180, 0, 0])
+    qtbot.wait(50)
+    assert win.open_file(copy_demo("lark7.toml", tmp_path))
+    qtbot.waitUntil(lambda: win.notice_bar.isVisible(), timeout=2000)
+    qtbot.wait(200)
+    assert _last_row_shown(win)
+    assert win.docks["joints"].widget().verticalScrollBar().maximum() == 0
+    assert win.docks["target"].height() >= 120  # the branch list keeps room
