@@ -393,6 +393,12 @@ class TargetPanel(QWidget):
         parts.append(f"joints [{joint_units(chain)}]: {row.joints}")
         return " · ".join(parts) + "."
 
+    def _details_style(self, sheet: str) -> None:
+        """Restyle the details only when their colour changes (a style sheet re-polishes the label: on every
+        joint change it cost more than the text)."""
+        if self.details.styleSheet() != sheet:
+            self.details.setStyleSheet(sheet)
+
     def _show_details(self) -> None:
         st = self.state
         tip = "move the arm to the selected branch (Enter in the list does the same)"
@@ -409,12 +415,12 @@ class TargetPanel(QWidget):
             self.details.setText(self.details_text(i))
             b = st.branches[i]
             bad = not (b.within_limits and b.reaches)
-            self.details.setStyleSheet(f"color: {palette.AT}" if bad else "")
+            self._details_style(f"color: {palette.AT}" if bad else "")
         elif st.branches:
             self.details.setText("Hover or select a branch to see it in full and as a ghost; "
                                  "Enter, double-click or 'Apply branch' moves the arm there; Ctrl+C copies its "
                                  "joint values.")
-            self.details.setStyleSheet(f"color: {palette.MUTED}")
+            self._details_style(f"color: {palette.MUTED}")
         else:
             self.details.setText("")
 

@@ -13,6 +13,7 @@ from ui_common import copy_demo, wide_heron
 
 from poser import report
 from poser.cli import main as cli_main
+from poser.ui import palette
 from poser.ui.tables import COL_LABEL, COL_LIMITS, COL_MANIP, COL_MOVE, COL_NUMBER, BranchModel
 
 pytestmark = [pytest.mark.gui]
@@ -282,3 +283,22 @@ def test_a_turn_variant_row_starts_with_what_tells_it_apart(make_window, qtbot):
             model.data(model.index(k, COL_LABEL, parent)).split("\n")[0] for k in range(model.rowCount(parent))]
         shown = [fm.elidedText(t, Qt.TextElideMode.ElideRight, width) for t in texts]
         assert len(set(shown)) == len(shown), shown
+
+
+def test_a_joint_change_does_not_restyle_the_branch_details(make_window, qtbot):
+    """Setting a style sheet re-polishes a widget; the details under the list once got theirs again on every
+    joint change (the costliest call of a frame with a target).  Their colour follows the branch shown."""
+    win = make_window(size=(1280, 800))
+    win.set_target_values([900, -300, 900, 180, 0, 0])
+    st, details = win.state, win.target.details
+    sheets = []
+    real = details.setStyleSheet
+    details.setStyleSheet = lambda s: (sheets.append(s), real(s))
+    for k in range(5):
+        st.set_joint_user(1, 30.0 + k)
+    assert sheets == []
+    beyond = next(i for i, b in enumerate(st.branches) if not b.within_limits)
+    st.hover_branch(beyond)
+    assert sheets and details.styleSheet() == f"color: {palette.AT}"
+    st.hover_branch(-1)
+    assert details.styleSheet() == f"color: {palette.MUTED}"

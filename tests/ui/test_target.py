@@ -79,7 +79,9 @@ def test_hovering_previews_and_selecting_then_applying_poses_the_arm(make_window
     assert len(between) >= 2
     lo, hi = np.minimum(start, goal) - 1e-12, np.maximum(start, goal) + 1e-12
     assert all(np.all((q >= lo) & (q <= hi)) for q in between)
-    # the arm now sits on the target: the frames panel reads the target back
+    # the arm now sits on the target: the frames panel (its tab raised) reads the target back
+    win.docks["frames"].raise_()
+    qtbot.waitUntil(lambda: win.frames._seen, timeout=1000)
     T = st.tool()
     np.testing.assert_allclose(T[:3, 3], [900, -300, 900], atol=1e-6)
     np.testing.assert_allclose(T[:3, :3], st.target.R, atol=1e-8)
