@@ -104,6 +104,8 @@ def run(args) -> int:
             return 2
         return 0
 
+    if getattr(args, "arm", None):  # the file named on the command line is one the user opened
+        win.add_recent(path)
     win.show()
     if os.environ.get("POSER_EXIT_AFTER_FIRST_FRAME"):
         # for benchmarks/gui.py: report the first rendered frame and quit

@@ -531,6 +531,10 @@ class MainWindow(QMainWindow):
         if now is None or now.sha256 != stamp.sha256:
             raise armfile.ChangedOnDiskError(str(path), stamp, now)
 
+    def add_recent(self, path) -> None:
+        """Put ``path`` first in File ▸ Open recent (an arm opened from the command line, too)."""
+        self._push_recent(path)
+
     def _push_recent(self, path) -> None:
         recent = self.settings.value("recent", [], type=list) or []
         self.settings.setValue("recent", files.push_recent([str(r) for r in recent], path))

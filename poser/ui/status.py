@@ -99,6 +99,8 @@ class PoseStatusBar(QStatusBar):
         self.singular.setAccessibleName("singularity proximity")
         self.limits = ElidedLabel()
         self.limits.setAccessibleName("limit warnings")
+        # a long singularity verdict (a long arm's) shortens before the limit words fall below their first words
+        self.limits.setMinimumWidth(self.limits.fontMetrics().horizontalAdvance("limits: every joint clear") + 24)
         self.mount = ElidedLabel()
         self.mount.setAccessibleName("below the mounting plane")
         self.mount.setVisible(False)

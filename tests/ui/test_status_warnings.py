@@ -128,3 +128,22 @@ def test_no_window_module_of_ours_imports_scipy():
     first = r.stdout.strip()
     # the innermost module of the package on the stack when scipy was first asked for
     assert first == "none" or first.endswith("poser/ui/geometry.py"), first
+
+
+def test_a_long_singularity_verdict_leaves_the_limit_words_readable(make_window, tmp_path, qtbot):
+    """A 32-joint arm at home is singular with a long verdict; the limit words beside it were squeezed to
+    "limits: …" at 1280 px.  The verdict shortens (its start, "AT A SINGULARITY", stays; the whole text is in
+    its tooltip) and the limit words stay whole."""
+    from test_arm_switch import _snake
+
+    win = make_window(_snake(tmp_path), size=(1280, 800))
+    qtbot.wait(50)
+    bar = win.status
+    assert bar.singular.text().startswith("AT A SINGULARITY")
+    assert bar.limits.text() == "limits: every joint clear"
+    assert not bar.limits.elided, bar.limits.shown_text()
+    assert bar.singular.shown_text().startswith("AT A SINGULARITY")
+    # a joint at its limit: still named in the bar
+    win.state.set_joint_user(3, 120.0)
+    qtbot.wait(20)
+    assert bar.limits.shown_text().startswith("limits: J4 AT")
