@@ -668,8 +668,10 @@ class MainWindow(QMainWindow):
             self._title()
             self._write_recovery()
 
-    def set_target_values(self, values) -> None:
-        self.target.set_values(values)
+    def set_target_values(self, values, now: bool = True) -> None:
+        """The target from ``X,Y,Z`` or ``X,Y,Z,R,P,Y`` in arm units; solved on this thread when ``now``, else
+        on the solver's worker like a typed target."""
+        self.target.set_values(values, now)
 
     def closeEvent(self, ev):
         if self.interactive and not getattr(self, "_close_agreed", False) and not self._resolve_unsaved():

@@ -280,8 +280,10 @@ class TargetPanel(QWidget):
         if old is not None:
             self._from_fields()
 
-    def set_values(self, values) -> None:
-        """Set the target from ``X,Y,Z`` or ``X,Y,Z,R,P,Y`` in arm units (rpy mode) and solve at once."""
+    def set_values(self, values, now: bool = True) -> None:
+        """Set the target from ``X,Y,Z`` or ``X,Y,Z,R,P,Y`` in arm units (rpy mode); solve at once on this thread
+        (``now``: snapshots and scripts want the answer before they go on) or on the solver's worker (the
+        window starting with a target: it shows at once and the branches follow)."""
         v = np.asarray(values, float)
         with QSignalBlocker(self.mode):
             self.mode.setCurrentIndex(MODES.index("rpy" if len(v) == 6 else "position only"))
@@ -291,7 +293,8 @@ class TargetPanel(QWidget):
             R = geometry.rotation_from_values("rpy", v[3:], self.state.chain.units.angle_to_rad)
         self.state.set_target(Target(v[:3], R), writer=self)
         self._target_to_fields(self.state.target)
-        self.solver.solve_now()  # at once, on this thread: the caller wants the answer now
+        if now:
+            self.solver.solve_now()  # at once, on this thread: the caller wants the answer now
 
     def take_current(self) -> None:
         T = self.state.tool()

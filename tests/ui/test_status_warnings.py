@@ -147,3 +147,21 @@ def test_a_long_singularity_verdict_leaves_the_limit_words_readable(make_window,
     win.state.set_joint_user(3, 120.0)
     qtbot.wait(20)
     assert bar.limits.shown_text().startswith("limits: J4 AT")
+
+
+def test_a_long_arm_name_is_shortened_in_the_middle_and_keeps_edited(make_window, qtbot):
+    """The status bar's arm label has a width limit: a long name is elided in the middle (with '…'), so the
+    units and '(edited)' at the end stay readable; the whole text is in the tooltip."""
+    win = make_window()
+    st = win.state
+    spec = st.spec
+    import dataclasses
+
+    st.set_arm(dataclasses.replace(spec, name="A very long arm name for a welding cell on the north line " * 2),
+               dirty=True)
+    qtbot.wait(20)
+    label = win.status.arm
+    assert st.dirty
+    assert label.text().endswith("(edited)")
+    assert label.elided and "…" in label.shown_text() and label.shown_text().endswith("(edited)")
+    assert label.text() in label.toolTip()
