@@ -95,7 +95,8 @@ def run(args) -> int:
         win.state.set_q_user(q_user)
         win.view.clear_trail()  # the jump from home is no path the tool took
     if target is not None:
-        win.set_target_values(target)
+        # a snapshot needs the branches before it is taken; a window shows at once and solves on its worker
+        win.set_target_values(target, now=bool(snapshot))
     if snapshot:
         ok = win.snapshot(snapshot, size)
         _dispose(app, win)
@@ -104,6 +105,8 @@ def run(args) -> int:
             return 2
         return 0
 
+    if getattr(args, "arm", None):  # the file named on the command line is one the user opened
+        win.add_recent(path)
     win.show()
     if os.environ.get("POSER_EXIT_AFTER_FIRST_FRAME"):
         # for benchmarks/gui.py: report the first rendered frame and quit

@@ -44,6 +44,8 @@ class FramesPanel(QWidget):
 
     def __init__(self, state: PoseState, parent=None):
         super().__init__(parent)
+        self._stale = False  # joints moved while hidden: refreshed when shown
+        self._seen = True  # set_seen: the window says when its dock is a tab behind another
         self.state = state
         self.last_copied = ""
         lay = QVBoxLayout(self)
@@ -153,6 +155,7 @@ class FramesPanel(QWidget):
         self._refresh()
 
     def _refresh(self) -> None:
+        self._stale = False
         st = self.state
         u = st.chain.units
         T = st.tool()
@@ -171,8 +174,17 @@ class FramesPanel(QWidget):
             f"Angles shown in {u.angle}. Frame 0 is the base."
         )
 
+    def set_seen(self, seen: bool) -> None:
+        """Whether the panel can be seen (its dock raised): while not, joint changes only mark it stale."""
+        self._seen = bool(seen)
+        if self._seen and self._stale:  # joints moved while it was a tab behind another panel
+            self._refresh()
+
     def _on_state(self, field: str) -> None:
         if field == "arm":
             self._fill_links()
         elif field == "q":
-            self._refresh()
+            if self._seen:
+                self._refresh()
+            else:  # nobody sees it: four matrices formatted per joint change cost a frame's time for nothing
+                self._stale = True

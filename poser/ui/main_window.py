@@ -29,6 +29,7 @@ from PySide6.QtWidgets import (
     QMainWindow,
     QMessageBox,
     QScrollArea,
+    QTabBar,
     QToolBar,
     QWidget,
 )
@@ -163,6 +164,8 @@ class MainWindow(QMainWindow):
         self.tabifyDockWidget(self.docks["target"], self.docks["frames"])
         self.tabifyDockWidget(self.docks["frames"], self.docks["editor"])
         self.docks["target"].raise_()
+        self.frames.set_seen(False)
+        self.docks["frames"].visibilityChanged.connect(self.frames.set_seen)
 
         self.status = PoseStatusBar(self.state, self.render_note, self)
         self.setStatusBar(self.status)
@@ -178,6 +181,9 @@ class MainWindow(QMainWindow):
         self.notice_bar.toggleViewAction().setVisible(False)  # shown while there is a notice, by itself
         self.notices.shown.connect(self.notice_bar.setVisible)
         self.notices.shown.connect(lambda _on: QTimer.singleShot(0, self._keep_joints_shown))
+        # a longer verdict under the target fields: a long arm's joints (which scroll anyway) give it room
+        self.docks["target"].widget().verticalScrollBar().rangeChanged.connect(
+            lambda _lo, hi: hi > 0 and QTimer.singleShot(0, self._keep_target_shown))
         self.state.notice.connect(lambda level, text: self.notices.show_notice("state", level, text,
                                                                                timeout_ms=15000))
         self._build_menus()
@@ -222,8 +228,30 @@ class MainWindow(QMainWindow):
         self.joints.layout().activate()  # rows just built: their size is known only once laid out
         want = self.joints.sizeHint().height() + title + 14
         joints = int(min(max(want, 0.3 * h), 0.6 * h))
-        self.resizeDocks([self.docks["joints"], self.docks["target"]], [joints, max(h - joints, 1)],
+        # the two docks share what the menu, notice and status bars leave: sizes that add up to the whole
+        # window are scaled down by Qt, and the joints' share came out short of their rows.  The target keeps
+        # what its fields, words and a few branch rows need (a long arm's joints scroll instead)
+        room = self.docks["joints"].height() + self.docks["target"].height()
+        if room > 0:
+            # the tabs under the target (Target, Frames, Arm editor) count in the target's share
+            box = self.docks["target"].geometry()
+            tabs = sum(t.height() for t in self.findChildren(QTabBar) if t.isVisible() and t.parent() is self
+                       and abs(t.y() - box.bottom()) < 8 and t.x() < box.right() and t.geometry().right() > box.x())
+            room += tabs
+            panel, width = self.target, self.docks["target"].widget().viewport().width()
+            need = panel.heightForWidth(width) if panel.hasHeightForWidth() else -1  # wrapped words at this width
+            target = max(need, panel.minimumSizeHint().height()) + title + 8 + tabs
+            joints = max(min(joints, room - max(target, 120)), 1)
+        else:
+            room = h
+        self.resizeDocks([self.docks["joints"], self.docks["target"]], [joints, max(room - joints, 1)],
                          Qt.Orientation.Vertical)
+
+    def _keep_target_shown(self) -> None:
+        """The Target panel scrolls while the Joints dock scrolls too (a long arm): refit, the target first."""
+        joints, target = (self.docks[k].widget().verticalScrollBar() for k in ("joints", "target"))
+        if getattr(self, "_sized", False) and joints.maximum() > 0 and target.maximum() > 0:
+            self.fit_joint_dock()
 
     def _keep_joints_shown(self) -> None:
         """After the notice bar came or went: refit the Joints dock if its rows no longer fit."""
@@ -503,6 +531,10 @@ class MainWindow(QMainWindow):
         if now is None or now.sha256 != stamp.sha256:
             raise armfile.ChangedOnDiskError(str(path), stamp, now)
 
+    def add_recent(self, path) -> None:
+        """Put ``path`` first in File ▸ Open recent (an arm opened from the command line, too)."""
+        self._push_recent(path)
+
     def _push_recent(self, path) -> None:
         recent = self.settings.value("recent", [], type=list) or []
         self.settings.setValue("recent", files.push_recent([str(r) for r in recent], path))
@@ -636,8 +668,10 @@ class MainWindow(QMainWindow):
             self._title()
             self._write_recovery()
 
-    def set_target_values(self, values) -> None:
-        self.target.set_values(values)
+    def set_target_values(self, values, now: bool = True) -> None:
+        """The target from ``X,Y,Z`` or ``X,Y,Z,R,P,Y`` in arm units; solved on this thread when ``now``, else
+        on the solver's worker like a typed target."""
+        self.target.set_values(values, now)
 
     def closeEvent(self, ev):
         if self.interactive and not getattr(self, "_close_agreed", False) and not self._resolve_unsaved():

@@ -4,7 +4,7 @@ typing: the file changed on disk, recovery copies failing, a target converted to
 
 from __future__ import annotations
 
-from PySide6.QtCore import QTimer, Signal
+from PySide6.QtCore import Qt, QTimer, Signal
 from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel, QPushButton, QSizePolicy, QStatusBar, QVBoxLayout, QWidget
 
 from poser import report
@@ -99,10 +99,13 @@ class PoseStatusBar(QStatusBar):
         self.singular.setAccessibleName("singularity proximity")
         self.limits = ElidedLabel()
         self.limits.setAccessibleName("limit warnings")
+        # a long singularity verdict (a long arm's) shortens before the limit words fall below their first words
+        self.limits.setMinimumWidth(self.limits.fontMetrics().horizontalAdvance("limits: every joint clear") + 24)
         self.mount = ElidedLabel()
         self.mount.setAccessibleName("below the mounting plane")
         self.mount.setVisible(False)
-        self.arm = QLabel()
+        self.arm = ElidedLabel(mode=Qt.TextElideMode.ElideMiddle)  # a long name keeps its units and '(edited)'
+        self.arm.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Preferred)  # its width if room
         self.render = QLabel(short_render_note(render_note))
         self.render.setStyleSheet(f"color: {palette.MUTED}")
         self.render.setToolTip(render_note)
@@ -174,8 +177,10 @@ class PoseStatusBar(QStatusBar):
         u = st.chain.units
         name = st.path.name if st.path else "not saved"
         star = " (edited)" if st.dirty else ""
-        self.arm.setText(f"{report.printable(st.chain.name)} · {u.length}, {u.angle} · {report.printable(name)}{star}")
-        self.arm.setToolTip(f"arm name · length and angle units · file{': ' + str(st.path) if st.path else ''}")
+        text = f"{report.printable(st.chain.name)} · {u.length}, {u.angle} · {report.printable(name)}{star}"
+        self.arm.setText(text)
+        self.arm.setToolTip(f"{text}\narm name · length and angle units · file"
+                            f"{': ' + report.printable(str(st.path)) if st.path else ''}")
         self.arm.setMaximumWidth(320)
         self.render.setMaximumWidth(380)
 

@@ -19,7 +19,7 @@ from PySide6.QtWidgets import QTableWidget
 
 from poser import report
 from poser.ui import palette
-from poser.ui.words import group_branches, move_cell
+from poser.ui.words import group_branches, move_cell, variant_label
 
 __all__ = ["CompactTable", "BranchModel", "COLUMNS"]
 
@@ -199,6 +199,8 @@ class BranchModel(QAbstractItemModel):
                 more = len(self.groups[g]) - 1
                 return f"{row.number}\n+{more}" if k == 0 and more else f"{row.number}\n"
             if c == COL_LABEL:
+                if self._where[i][1]:  # a turn variant under its configuration: what differs first
+                    return f"{variant_label(row)}\n{row.joints}"
                 return f"{row.label}\n{row.joints}"
             if c == COL_LIMITS:
                 verdict, _, why = row.limits.partition(": ")

@@ -20,6 +20,7 @@ from PySide6.QtWidgets import (
     QHeaderView,
     QLabel,
     QPushButton,
+    QScrollArea,
     QTreeView,
     QVBoxLayout,
     QWidget,
@@ -41,6 +42,8 @@ FIELD_LIMIT = 1e6
 """Largest size of a value in the target fields (arm units)."""
 DECIMALS = {"mm": 3, "m": 5, "in": 4, "deg": 3, "rad": 5}
 """Decimals of the target fields by unit (a tenth of a micrometre-ish, a thousandth of a degree)."""
+DETAIL_LINES = 4
+"""Lines of the branch details under the list (a fixed height; a longer text scrolls)."""
 
 
 
@@ -173,8 +176,16 @@ class TargetPanel(QWidget):
         self.details.setWordWrap(True)
         self.details.setAccessibleName("branch details")
         self.details.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
-        self.details.setMinimumHeight(self.details.fontMetrics().lineSpacing() * 2 + 4)
-        lay.addWidget(self.details)
+        self.details.setAlignment(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignTop)
+        # a fixed height: a longer text for the hovered row must not shrink the list and move rows away
+        # from under the pointer (hover would then flicker between two rows); a longer text scrolls
+        self.details_box = QScrollArea()
+        self.details_box.setWidget(self.details)
+        self.details_box.setWidgetResizable(True)
+        self.details_box.setFrameShape(QScrollArea.Shape.NoFrame)
+        self.details_box.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.details_box.setFixedHeight(self.details.fontMetrics().lineSpacing() * DETAIL_LINES + 6)
+        lay.addWidget(self.details_box)
 
         for s in self.xyz + self.ori:
             s.valueChanged.connect(self._from_fields)
@@ -269,8 +280,10 @@ class TargetPanel(QWidget):
         if old is not None:
             self._from_fields()
 
-    def set_values(self, values) -> None:
-        """Set the target from ``X,Y,Z`` or ``X,Y,Z,R,P,Y`` in arm units (rpy mode) and solve at once."""
+    def set_values(self, values, now: bool = True) -> None:
+        """Set the target from ``X,Y,Z`` or ``X,Y,Z,R,P,Y`` in arm units (rpy mode); solve at once on this thread
+        (``now``: snapshots and scripts want the answer before they go on) or on the solver's worker (the
+        window starting with a target: it shows at once and the branches follow)."""
         v = np.asarray(values, float)
         with QSignalBlocker(self.mode):
             self.mode.setCurrentIndex(MODES.index("rpy" if len(v) == 6 else "position only"))
@@ -280,7 +293,8 @@ class TargetPanel(QWidget):
             R = geometry.rotation_from_values("rpy", v[3:], self.state.chain.units.angle_to_rad)
         self.state.set_target(Target(v[:3], R), writer=self)
         self._target_to_fields(self.state.target)
-        self.solver.solve_now()  # at once, on this thread: the caller wants the answer now
+        if now:
+            self.solver.solve_now()  # at once, on this thread: the caller wants the answer now
 
     def take_current(self) -> None:
         T = self.state.tool()
@@ -382,6 +396,12 @@ class TargetPanel(QWidget):
         parts.append(f"joints [{joint_units(chain)}]: {row.joints}")
         return " · ".join(parts) + "."
 
+    def _details_style(self, sheet: str) -> None:
+        """Restyle the details only when their colour changes (a style sheet re-polishes the label: on every
+        joint change it cost more than the text)."""
+        if self.details.styleSheet() != sheet:
+            self.details.setStyleSheet(sheet)
+
     def _show_details(self) -> None:
         st = self.state
         tip = "move the arm to the selected branch (Enter in the list does the same)"
@@ -398,12 +418,12 @@ class TargetPanel(QWidget):
             self.details.setText(self.details_text(i))
             b = st.branches[i]
             bad = not (b.within_limits and b.reaches)
-            self.details.setStyleSheet(f"color: {palette.AT}" if bad else "")
+            self._details_style(f"color: {palette.AT}" if bad else "")
         elif st.branches:
             self.details.setText("Hover or select a branch to see it in full and as a ghost; "
                                  "Enter, double-click or 'Apply branch' moves the arm there; Ctrl+C copies its "
                                  "joint values.")
-            self.details.setStyleSheet(f"color: {palette.MUTED}")
+            self._details_style(f"color: {palette.MUTED}")
         else:
             self.details.setText("")
 

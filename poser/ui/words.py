@@ -102,6 +102,7 @@ class BranchRow:
     joints_tip: str
     copy: str
     configuration: str
+    turn_words: str = ""  # the label's extra-turn words ("J6 flange +1 turn"; "" for none)
 
 
 def branch_rows(chain, result, infos) -> tuple:
@@ -111,6 +112,8 @@ def branch_rows(chain, result, infos) -> tuple:
     position_only = bool(getattr(result, "position_only", False))
     for k, (b, info) in enumerate(zip(result.branches, infos)):
         label = P(b.label)
+        config = P(b.configuration)
+        turn_words = label[len(config) + 3:] if label.startswith(config + " · ") else ""
         if not b.reaches:
             label = f"{label} — {report.miss_words(chain, b, position_only)}"
         tip = label
@@ -132,9 +135,16 @@ def branch_rows(chain, result, infos) -> tuple:
             within=bool(b.within_limits), reaches=bool(b.reaches),
             manip=manip, manip_tip=manip_tip, level=info.level,
             joints=joints_line(chain, b.q), joints_tip="\n".join(unit_names),
-            copy=joints_copy_line(chain, b.q), configuration=b.configuration,
+            copy=joints_copy_line(chain, b.q), configuration=b.configuration, turn_words=turn_words,
         ))
     return tuple(rows)
+
+
+def variant_label(row: BranchRow) -> str:
+    """The label of a turn variant's row under its configuration's: what tells it apart, first
+    (``"J6 flange +1 turn · same configuration"``) — the configuration's words are the row above."""
+    family = " · family" if row.label.endswith(" · family") else ""
+    return f"{row.turn_words or 'no extra turn'}{family} · same configuration"
 
 
 def group_branches(branches, shown) -> list[list[int]]:

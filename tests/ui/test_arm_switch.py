@@ -103,3 +103,48 @@ def test_the_joints_dock_shows_every_joint_of_the_arm_opened(make_window, tmp_pa
     assert win.open_file(copy_demo(then, tmp_path))
     qtbot.waitUntil(lambda: _last_row_shown(win), timeout=2000)
     assert len(win.joints.rows) == win.state.chain.n >= 6
+
+
+def test_the_joints_dock_fits_the_new_arm_when_a_notice_comes_with_it(make_window, tmp_path, qtbot):
+    """Heron 6 (mm) with a target, then Lark 7 (m): the target is converted and a notice bar appears above the
+    docks at the same time; the seven rows must still fit (the dock once got the share of the whole window's
+    height, which the menu, notice and status bars make too little)."""
+    win = make_window(copy_demo("heron6.toml", tmp_path))
+    win.set_target_values([900, -300, 900, 180, 0, 0])
+    qtbot.wait(50)
+    assert win.open_file(copy_demo("lark7.toml", tmp_path))
+    qtbot.waitUntil(lambda: win.notice_bar.isVisible(), timeout=2000)
+    qtbot.wait(200)
+    assert _last_row_shown(win)
+    assert win.docks["joints"].widget().verticalScrollBar().maximum() == 0
+    assert win.docks["target"].height() >= 120  # the branch list keeps room
+
+
+def _snake(folder, n=32):
+    """An invented arm of ``n`` short joints (for sizes only: a demo of nothing)."""
+    rows = ['format = 1', f'name = "Snake {n}"', "", "[units]", 'length = "mm"', 'angle = "deg"', ""]
+    for i in range(n):
+        rows += ["[[joint]]", f'name = "J{i + 1}"', 'type = "revolute"', f"alpha = {90 if i % 2 == 0 else -90}",
+                 "d = 60", "min = -120", "max = 120", ""]
+    path = folder / f"snake{n}.toml"
+    path.write_text("\n".join(rows))
+    return path
+
+
+def test_a_long_arm_leaves_the_target_panel_its_fields_and_branch_list(make_window, tmp_path, qtbot):
+    """Heron 6 with a target, then a 32-joint arm: the Joints dock cannot show 32 rows at 800 px and scrolls,
+    but it must not take the room the target needs — the Target panel once got what was left after 60 % of the
+    window and hid its branch list below a scroll bar."""
+    win = make_window(copy_demo("heron6.toml", tmp_path))
+    win.set_target_values([300, 200, 900, 0, 0, 0])
+    assert win.open_file(_snake(tmp_path))
+    assert win.solver.wait(20.0)
+    qtbot.wait(200)
+    target = win.docks["target"].widget()
+    assert target.verticalScrollBar().maximum() == 0  # every part of the Target panel shown
+    table = win.target.table
+    top = table.mapTo(target.viewport(), QPoint(0, 0)).y()
+    assert top + table.height() <= target.viewport().height()
+    rows = table.viewport().height() / max(table.sizeHintForRow(0), 1)
+    assert rows >= 2, rows  # room for a few branches
+    assert win.docks["joints"].widget().verticalScrollBar().maximum() > 0  # the joints scroll instead

@@ -7,12 +7,13 @@ import time
 
 import numpy as np
 import pytest
-from PySide6.QtCore import Qt
+from PySide6.QtCore import QPoint, Qt
 from PySide6.QtTest import QTest
 from ui_common import copy_demo, wide_heron
 
 from poser import report
 from poser.cli import main as cli_main
+from poser.ui import palette
 from poser.ui.tables import COL_LABEL, COL_LIMITS, COL_MANIP, COL_MOVE, COL_NUMBER, BranchModel
 
 pytestmark = [pytest.mark.gui]
@@ -226,3 +227,78 @@ def test_a_joint_change_rewrites_only_the_move_column(make_window, qtbot):
     # the texts of the other columns are the ones made once for this result
     assert model.rows is win.state.branch_rows()
     assert model.data(model.index_of(0, COL_LIMITS)).startswith(("yes", "NO"))
+
+
+def test_hovering_a_row_never_moves_the_rows(make_window, qtbot):
+    """The details under the list grow to four lines for a branch beyond its limits; the list must keep its
+    height, or the row under the pointer slides away and the hover flickers between two rows."""
+    win = make_window(size=(1280, 800))
+    win.set_target_values([900, -300, 900, 180, 0, 0])
+    qtbot.wait(50)
+    table = win.target.table
+    heights = {table.height()}
+    for i in range(len(win.state.branches)):
+        win.state.hover_branch(i)
+        qtbot.wait(5)
+        heights.add(table.height())
+    win.state.hover_branch(-1)
+    qtbot.wait(5)
+    heights.add(table.height())
+    assert len(heights) == 1, heights
+    # and a real pointer over the last row shown: it stays hovered
+    vp = table.viewport()
+    last = table.indexAt(vp.rect().bottomLeft() + QPoint(5, -8))
+    assert last.isValid()
+    QTest.mouseMove(vp, table.visualRect(last).center())
+    qtbot.waitUntil(lambda: win.state.hovered == win.target.model.branch_of(last), timeout=1000)
+    qtbot.wait(50)
+    assert table.indexAt(table.visualRect(last).center()) == last
+    assert win.state.hovered == win.target.model.branch_of(last)
+
+
+def test_a_turn_variant_row_starts_with_what_tells_it_apart(make_window, qtbot):
+    """Heron 6 at 900, -300, 900 mm, rpy 180, 0, 0 deg: branch 6 is branch 1 with J6 one turn on (poser ik
+    lists it as 'shoulder front · elbow up · wrist not flipped · J6 flange +1 turn').  Under its
+    configuration's row it shows the turn words first, so an elided cell never shows two rows alike."""
+    win = make_window(size=(1280, 800))
+    win.set_target_values([900, -300, 900, 180, 0, 0])
+    st, model = win.state, win.target.model
+    assert st.branches[5].label.endswith(" · J6 flange +1 turn")
+    index = model.index_of(5, COL_LABEL)
+    assert index.parent().isValid()  # a child of branch 1's row
+    first = model.data(index).split("\n")[0]
+    assert first == "J6 flange +1 turn · same configuration"
+    # the configuration's own row keeps its whole label, the tooltip of the variant too
+    assert model.data(model.index_of(0, COL_LABEL)).split("\n")[0] == st.branches[0].label
+    assert st.branches[5].label in model.data(index, Qt.ItemDataRole.ToolTipRole)
+    # every visible first line of a configuration's rows differs within what the column shows
+    panel = win.target
+    panel.table.expandAll()
+    qtbot.wait(20)
+    fm = panel.table.fontMetrics()
+    width = panel.table.columnWidth(COL_LABEL) - 10
+    for top in range(model.rowCount()):
+        parent = model.index(top, 0)
+        texts = [model.data(model.index(top, COL_LABEL)).split("\n")[0]] + [
+            model.data(model.index(k, COL_LABEL, parent)).split("\n")[0] for k in range(model.rowCount(parent))]
+        shown = [fm.elidedText(t, Qt.TextElideMode.ElideRight, width) for t in texts]
+        assert len(set(shown)) == len(shown), shown
+
+
+def test_a_joint_change_does_not_restyle_the_branch_details(make_window, qtbot):
+    """Setting a style sheet re-polishes a widget; the details under the list once got theirs again on every
+    joint change (the costliest call of a frame with a target).  Their colour follows the branch shown."""
+    win = make_window(size=(1280, 800))
+    win.set_target_values([900, -300, 900, 180, 0, 0])
+    st, details = win.state, win.target.details
+    sheets = []
+    real = details.setStyleSheet
+    details.setStyleSheet = lambda s: (sheets.append(s), real(s))
+    for k in range(5):
+        st.set_joint_user(1, 30.0 + k)
+    assert sheets == []
+    beyond = next(i for i, b in enumerate(st.branches) if not b.within_limits)
+    st.hover_branch(beyond)
+    assert sheets and details.styleSheet() == f"color: {palette.AT}"
+    st.hover_branch(-1)
+    assert details.styleSheet() == f"color: {palette.MUTED}"

@@ -24,6 +24,7 @@ def handle_centre(slider) -> QPoint:
 
 def test_dragging_a_slider_changes_the_frames_panel_to_the_fk_value(make_window, qtbot):
     win = make_window()
+    win.docks["frames"].raise_()  # the Frames tab in front, as a user reading it has it
     row = win.joints.rows[1]  # J2 shoulder
     before = win.state.q_user[1]
     start = handle_centre(row.slider)
@@ -165,3 +166,20 @@ def test_control_characters_in_joint_names_are_shown_escaped(make_window):
     assert win.state.chain.names[1] == "J2\tshoulder\u200b"  # kept exactly
     assert win.joints.rows[1].name.text() == "J2\\tshoulder\\u200b"
     assert win.frames.link_combo.itemText(1) == "2: J2\\tshoulder\\u200b"
+
+
+def test_a_frames_tab_behind_the_target_is_brought_up_to_date_when_raised(make_window, qtbot):
+    """The Frames panel is a tab behind the Target panel: joint changes do not format its four matrices (they
+    cost a frame's time for nothing), and raising the tab shows the core's FK of the joints now."""
+    win = make_window()
+    assert not win.frames._seen
+    before = win.frames.tool_matrix.text()
+    win.state.set_joint_user(1, 35.0)
+    win.state.set_joint_user(2, -20.0)
+    assert win.frames.tool_matrix.text() == before  # not rewritten while nobody can see it
+    win.docks["frames"].raise_()
+    qtbot.waitUntil(lambda: win.frames._seen, timeout=1000)
+    T = fk(win.state.chain, win.state.q)
+    assert win.frames.tool_matrix.text() == format_matrix(T, "text", 4) != before
+    win.state.set_joint_user(1, 40.0)  # seen: follows every change again
+    assert win.frames.tool_matrix.text() == format_matrix(fk(win.state.chain, win.state.q), "text", 4)

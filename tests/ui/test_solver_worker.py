@@ -176,3 +176,24 @@ def test_heartbeat_while_typing_targets_on_wren6(make_window, tmp_path, record_p
 
 def test_heartbeat_while_typing_targets_on_lark7(make_window, tmp_path, record_property):
     _stall(make_window, "lark7", tmp_path, record_property)
+
+
+def test_a_window_started_with_a_target_solves_it_on_the_worker(make_window, qtbot, monkeypatch):
+    """``poser ARM --target …`` opens the window at once and solves on the worker (a 32-joint arm's solve took
+    seconds on the GUI thread before the window showed); snapshots still solve at once (``now``)."""
+    win = make_window()
+    threads = []
+    real = ikbridge.solve
+
+    def spy(*a, **k):
+        threads.append(threading.current_thread())
+        return real(*a, **k)
+
+    monkeypatch.setattr(ikbridge, "solve", spy)
+    win.set_target_values([900, -300, 900, 180, 0, 0], now=False)
+    assert win.state.target is not None and not threads  # nothing solved yet, nothing on this thread
+    qtbot.waitUntil(lambda: len(win.state.branches) > 0, timeout=5000)
+    assert threads and all(t is not threading.main_thread() for t in threads)
+    threads.clear()
+    win.set_target_values([900, -300, 950, 180, 0, 0])  # now: on this thread, the branches there on return
+    assert threads == [threading.main_thread()] and len(win.state.branches) > 0

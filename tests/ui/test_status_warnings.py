@@ -94,7 +94,12 @@ def test_a_joint_change_computes_each_product_once(make_window, monkeypatch):
     monkeypatch.setattr(report, "limit_states", limits)
     monkeypatch.setattr(type(st.chain), "frames", frames)
     st.set_joint_user(1, 35.0)
-    assert counts == {"assess": 1, "limits": 1, "frames": 1}
+    win.render_now()  # the 3D view draws the new pose too
+    # at most one set of frames: the Frames panel, a tab behind the Target panel, reads none until raised
+    assert counts["assess"] == counts["limits"] == 1 and counts["frames"] <= 1, counts
+    win.docks["frames"].raise_()
+    st.set_joint_user(1, 36.0)
+    assert counts["assess"] == counts["limits"] == 2 and counts["frames"] <= 2, counts
     # the panels read the same objects
     assert win.status.singularity_text()[1].startswith(report.singularity_words(st.chain, st.singularity(), True)[1])
     np.testing.assert_array_equal(win.frames.matrix("tool"), st.frames()[-1])
@@ -123,3 +128,40 @@ def test_no_window_module_of_ours_imports_scipy():
     first = r.stdout.strip()
     # the innermost module of the package on the stack when scipy was first asked for
     assert first == "none" or first.endswith("poser/ui/geometry.py"), first
+
+
+def test_a_long_singularity_verdict_leaves_the_limit_words_readable(make_window, tmp_path, qtbot):
+    """A 32-joint arm at home is singular with a long verdict; the limit words beside it were squeezed to
+    "limits: …" at 1280 px.  The verdict shortens (its start, "AT A SINGULARITY", stays; the whole text is in
+    its tooltip) and the limit words stay whole."""
+    from test_arm_switch import _snake
+
+    win = make_window(_snake(tmp_path), size=(1280, 800))
+    qtbot.wait(50)
+    bar = win.status
+    assert bar.singular.text().startswith("AT A SINGULARITY")
+    assert bar.limits.text() == "limits: every joint clear"
+    assert not bar.limits.elided, bar.limits.shown_text()
+    assert bar.singular.shown_text().startswith("AT A SINGULARITY")
+    # a joint at its limit: still named in the bar
+    win.state.set_joint_user(3, 120.0)
+    qtbot.wait(20)
+    assert bar.limits.shown_text().startswith("limits: J4 AT")
+
+
+def test_a_long_arm_name_is_shortened_in_the_middle_and_keeps_edited(make_window, qtbot):
+    """The status bar's arm label has a width limit: a long name is elided in the middle (with '…'), so the
+    units and '(edited)' at the end stay readable; the whole text is in the tooltip."""
+    win = make_window()
+    st = win.state
+    spec = st.spec
+    import dataclasses
+
+    st.set_arm(dataclasses.replace(spec, name="A very long arm name for a welding cell on the north line " * 2),
+               dirty=True)
+    qtbot.wait(20)
+    label = win.status.arm
+    assert st.dirty
+    assert label.text().endswith("(edited)")
+    assert label.elided and "…" in label.shown_text() and label.shown_text().endswith("(edited)")
+    assert label.text() in label.toolTip()

@@ -42,7 +42,14 @@ def test_typing_a_target_lists_the_same_branches_as_the_core(make_window, qtbot)
     for r, b in enumerate(core.branches):
         index = model.index_of(r, 1)
         assert index.isValid() and model.branch_of(index) == r
-        assert model.data(index).split("\n")[0] == b.label
+        # a configuration's row shows the core's label; a turn variant under it, what tells it apart (the
+        # label's turn words) first — its tooltip keeps the core's whole label
+        first = model.data(index).split("\n")[0]
+        if index.parent().isValid():
+            assert b.label == f"{b.configuration} · {first.removesuffix(' · same configuration')}"
+        else:
+            assert first == b.label
+        assert b.label in model.data(index, Qt.ItemDataRole.ToolTipRole)
         assert model.data(model.index_of(r, 2)).startswith("yes" if b.within_limits else "NO")
         np.testing.assert_allclose(st.branches[r].q, b.q, atol=1e-9)
     assert "within limits" in win.target.summary.text()
@@ -72,7 +79,9 @@ def test_hovering_previews_and_selecting_then_applying_poses_the_arm(make_window
     assert len(between) >= 2
     lo, hi = np.minimum(start, goal) - 1e-12, np.maximum(start, goal) + 1e-12
     assert all(np.all((q >= lo) & (q <= hi)) for q in between)
-    # the arm now sits on the target: the frames panel reads the target back
+    # the arm now sits on the target: the frames panel (its tab raised) reads the target back
+    win.docks["frames"].raise_()
+    qtbot.waitUntil(lambda: win.frames._seen, timeout=1000)
     T = st.tool()
     np.testing.assert_allclose(T[:3, 3], [900, -300, 900], atol=1e-6)
     np.testing.assert_allclose(T[:3, :3], st.target.R, atol=1e-8)

@@ -170,3 +170,27 @@ def test_the_guide_explains_units_families_closest_approach_up_and_saving():
     assert "recovery copy" in text and "cannot be written, a red notice says so" in text
     # the cautions stay
     assert "ISO 10218" in html and "plans nothing for a real robot" in html
+
+
+def test_an_arm_named_on_the_command_line_is_in_open_recent(tmp_path, qapp, monkeypatch):
+    """`poser ARM.toml` opens a file the user chose: File ▸ Open recent lists it first next time (it was
+    left out; only files opened through the dialog were remembered)."""
+    import shutil
+    from types import SimpleNamespace
+
+    from PySide6.QtCore import QSettings, QStandardPaths
+
+    from poser.ui.app import run
+
+    arm = tmp_path / "my arm.toml"
+    shutil.copy(ROOT / "demo_arms" / "wren6.toml", arm)
+    before = QStandardPaths.writableLocation(QStandardPaths.StandardLocation.GenericConfigLocation)
+    QSettings.setPath(QSettings.Format.NativeFormat, QSettings.Scope.UserScope, str(tmp_path / "config"))
+    try:
+        monkeypatch.setenv("POSER_EXIT_AFTER_FIRST_FRAME", "1")
+        args = SimpleNamespace(arm=str(arm), snapshot=None, joints=None, target=None, size="640x480")
+        assert run(args) == 0
+        recent = QSettings("Poser", "Poser").value("recent", [], type=list)
+    finally:
+        QSettings.setPath(QSettings.Format.NativeFormat, QSettings.Scope.UserScope, before)
+    assert recent and recent[0] == str(arm.resolve())
