@@ -644,14 +644,17 @@ PLACEMENT_NOTE = ("A placement search is a screening on a grid (free-spin target
 """Said under every placement search."""
 
 
-def placement_words(chain, placed, count: int) -> str:
-    """One placement (:class:`poser.core.place.Placed`) of a search over ``count`` targets, in one sentence."""
+def placement_words(chain, placed, count: int, names=None) -> str:
+    """One placement (:class:`poser.core.place.Placed`) of a search over ``count`` targets, in one sentence;
+    ``names``: the targets' names (the target of the smallest margin is named, else numbered from 1)."""
     yaw = angle(chain, placed.yaw, 2)
     s = f"Base at {point_text(chain, placed.xyz)}, yaw {yaw}: {placed.reached} of {count} targets reached"
     if placed.reached:
         j = placed.margin_joint
         s += (f"; smallest limit margin {fmt(100 * placed.margin, 2)} % of the range of {_name(chain, j)}"
-              f" (target {placed.margin_target + 1}); smallest manipulability "
+              f" (target {placed.margin_target + 1}"
+              + (f" '{printable(names[placed.margin_target])}'" if names is not None else "")
+              + "); smallest manipulability "
               f"{manipulability_text(chain, placed.manipulability)}")
     return s + "."
 

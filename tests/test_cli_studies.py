@@ -142,3 +142,11 @@ def test_cube_text_and_picture(tmp_path, capsys):
 def test_cube_errors_name_the_option(stem, argv, match, capsys):
     code, out, err = _run(capsys, "cube", DEMO_DIR / f"{stem}.toml", *argv)
     assert code == 2 and match in err and "Traceback" not in err
+
+
+def test_the_demo_targets_read_cleanly_and_heron_reaches_them(capsys):
+    code, out, err = _run(capsys, "reach", DEMO_DIR / "heron6.toml", DEMO_DIR / "heron6-frame-seams.csv", "--json")
+    assert code == 0 and err == ""
+    d = json.loads(out)
+    assert d["count"] == d["reached"] == 9 and not d["skipped"] and not d["warnings"]
+    assert sum(t["free_spin"] for t in d["targets"]) == 2 and sum(t["rpy"] is None for t in d["targets"]) == 1

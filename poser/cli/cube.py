@@ -11,11 +11,11 @@ import json
 from poser import report
 from poser.cli.args import UsageError, check_png, draw, load_arm, parse_count, parse_list, progress_printer
 from poser.cli.reach import verdict_json
+from poser.cli.workspace import MAX_SAMPLES
 
-__all__ = ["add_parser", "run", "cube_json", "MAX_SAMPLES"]
+__all__ = ["add_parser", "run", "cube_json"]
 
 HELP = "the performance-test cube and its ISO 9283 positions, checked for reach"
-MAX_SAMPLES = 10_000_000
 
 
 def add_parser(make):

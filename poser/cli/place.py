@@ -105,7 +105,7 @@ def placement_json(chain, result, targets) -> dict:
                 "margin_joint": None if j is None else chain.names[j],
                 "margin_target": None if b.margin_target is None else targets[b.margin_target].name,
                 "manipulability": None if not math.isfinite(b.manipulability) else b.manipulability,
-                "words": report.placement_words(chain, b, result.targets)}
+                "words": report.placement_words(chain, b, result.targets, [t.name for t in targets])}
 
     return {
         "grid": {"x": _axis_json(g.x, units.length), "y": _axis_json(g.y, units.length),
@@ -191,7 +191,7 @@ def run(args) -> int:
           f"{report.fmt(float(units.angle_out(g.yaw[-1])), 2)} ({len(g.yaw)}) {A}; roll and pitch as in the arm file")
     print("Best placements (targets reached, then smallest limit margin, then smallest manipulability):")
     for k, b in enumerate(result.best):
-        print(f"  {k + 1}. {report.placement_words(chain, b, result.targets)}")
+        print(f"  {k + 1}. {report.placement_words(chain, b, result.targets, [t.name for t in tf.targets])}")
     print(f"Reach study with the base at the best placement: {report.reach_summary(placed_chain, study, tf.skipped)}")
     missed = [v for v in study.verdicts if not v.reachable]
     for v in missed:

@@ -55,13 +55,18 @@ def _draw(fig, chain, pl, targets):
     rgb[cov == 0] = (235, 235, 235)
     pan.cells(xe, ye, rgb)
     pan.points(P[:, 0], P[:, 1], TARGET, 3.0)
-    for k, b in reversed(list(enumerate(pl.best))):
-        pan.marker(b.xyz[0], b.xyz[1], "ring", BEST if k == 0 else (90, 90, 90), 9 if k == 0 else 6,
-                   label=str(k + 1))
+    spots: dict = {}  # placements at one base position (other heights or yaws) share a label: "1, 2, 4"
+    for k, b in enumerate(pl.best):
+        spots.setdefault((float(b.xyz[0]), float(b.xyz[1])), []).append(k + 1)
+    for (x, y), ranks in reversed(list(spots.items())):
+        first = ranks[0] == 1
+        pan.marker(x, y, "ring", BEST if first else (90, 90, 90), 9 if first else 6,
+                   label=", ".join(map(str, ranks)))
     fig.colour_bar(1250, 150, 26, 330, 0, N, f"targets reached\n(of {N})", integer=True)
     fig.legend(1230, 520, [("square", (235, 235, 235), "none reached"),
                            ("dot", TARGET, "targets, seen from above"),
                            ("ring", BEST, "best placement (1), next best (2, 3, …)")], size=12, width=340)
-    note = (f"Best: {report.placement_words(chain, pl.best[0], N)} Grid: {len(g.x)} × {len(g.y)} positions, "
+    best = report.placement_words(chain, pl.best[0], N, [t.name for t in targets])
+    note = (f"Best: {best} Grid: {len(g.x)} × {len(g.y)} positions, "
             f"{len(g.z)} height(s), {len(g.yaw)} yaw(s). {report.PLACEMENT_NOTE} {report.STUDY_CAUTION}")
     fig.text(24, 790, 1550, 100, note, size=13)
