@@ -21,16 +21,22 @@ _APP = None
 
 
 def application():
-    """The QGuiApplication for drawing (made once, offscreen when there is no display)."""
+    """The Qt application for drawing: the one already running (the window's, or a test's), else a new
+    ``QApplication`` — offscreen when there is no display.  A widgets application, not a bare
+    ``QGuiApplication``, so that a window made later in the same process (tests, scripts) still can be;
+    shared OpenGL contexts are switched on first, as the window's start does."""
     global _APP
-    from PySide6.QtGui import QGuiApplication
+    from PySide6.QtCore import QCoreApplication, Qt
 
-    app = QGuiApplication.instance()
+    app = QCoreApplication.instance()
     if app is not None:
         return app
     if not os.environ.get("DISPLAY") and not os.environ.get("WAYLAND_DISPLAY"):
         os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
-    _APP = QGuiApplication(["poser-plot"])
+    QCoreApplication.setAttribute(Qt.ApplicationAttribute.AA_ShareOpenGLContexts)
+    from PySide6.QtWidgets import QApplication
+
+    _APP = QApplication(["poser-plot"])
     return _APP
 
 
