@@ -5,6 +5,7 @@ tests/core/test_workspace.py."""
 from __future__ import annotations
 
 import json
+import os
 import struct
 
 import pytest
@@ -51,6 +52,9 @@ def test_the_picture_is_written(stem, tmp_path, capsys):
     assert png_size(png) == (1600, 900)
     assert f"Picture written to {png}" in out
     assert not [p for p in tmp_path.iterdir() if p.name.startswith(".poser-")]  # no temporary file left
+    mask = os.umask(0)
+    os.umask(mask)
+    assert png.stat().st_mode & 0o777 == 0o666 & ~mask  # readable as any new file, not private
 
 
 @pytest.mark.parametrize("argv,match", [

@@ -194,6 +194,9 @@ def save(image, path):
     try:
         if not image.save(tmp, "PNG"):
             raise OSError("Qt could not write the PNG (disk full or no permission?)")
+        mask = os.umask(0)
+        os.umask(mask)
+        os.chmod(tmp, 0o666 & ~mask)  # as any new file (mkstemp makes it private)
         os.replace(tmp, path)
     except BaseException:
         if os.path.exists(tmp):
