@@ -414,13 +414,17 @@ def evaluate_candidates(chain, P, R, tol=None, near=None) -> CandidateTable:
     kmin, kmax = kmin.astype(np.int64), kmax.astype(np.int64)
     variants = np.where(inside, np.prod(np.maximum(kmax - kmin + 1, 0), axis=-1), 0)
     duplicate = np.zeros(M, bool)
-    if B > 1:
-        d = Q[:, :, None, :] - Q[:, None, :, :]
-        d = np.where(chain.revolute, np.abs(np.mod(d + np.pi, TWO_PI) - np.pi), np.abs(d) / chain.scale)
-        close = d.max(axis=-1) < DUPLICATE
-        both = reaches[:, :, None] & reaches[:, None, :]
-        iu = np.triu_indices(B, 1)
-        duplicate = np.any((close & both)[:, iu[0], iu[1]], axis=1)
+    if B > 1:  # every pair of candidates, joint by joint (a turn's difference wrapped)
+        i0, i1 = np.triu_indices(B, 1)
+        close = reaches[:, i0] & reaches[:, i1]
+        for j in range(n):
+            d = np.abs(Q[:, i0, j] - Q[:, i1, j])
+            if chain.revolute[j]:
+                np.remainder(d, TWO_PI, out=d)
+                close &= (d < DUPLICATE) | (d > TWO_PI - DUPLICATE)
+            else:
+                close &= d < DUPLICATE * chain.scale
+        duplicate = close.any(axis=1)
     return CandidateTable(Q, reaches, inside, free, duplicate, variants, kmin, kmax, excess, pe / chain.scale)
 
 
@@ -441,20 +445,26 @@ class _Chooser:
         self.zero = (0,) * chain.n
 
     def best(self, cands, ref):
-        """The best of ``cands`` [(values, kmin, kmax) lists]: (index, its values with turns, its turns, distance)."""
+        """The best of ``cands`` [(values, kmin, kmax) lists]: (index, its values with turns, its turns, distance).
+
+        Ranked by (distance rounded to 12 decimals, extra turns, order); the rounding is worked out only for
+        distances within 10⁻¹² of the best so far (farther apart, rounding cannot change their order)."""
         best = None
-        wide, rev, scale = self.wide, self.rev, self.scale
+        bd = math.inf
+        wide, rev, scale, slides = self.wide, self.rev, self.scale, self.slides
         for c, (row, a_s, b_s) in enumerate(cands):
-            q = list(row)
+            q = row
             t = self.zero
             nt = 0
             if wide:
-                t = list(t)
                 for w, i in enumerate(wide):
                     # |v + 2πk − r| is convex in k: the nearest turn within [a, b] is the unconstrained one, clipped
                     v = row[i]
-                    k = min(max(round((ref[i] - v) / TWO_PI), a_s[w]), b_s[w])
+                    k = round((ref[i] - v) / TWO_PI)
+                    k = a_s[w] if k < a_s[w] else b_s[w] if k > b_s[w] else k
                     if k:
+                        if t is self.zero:
+                            q, t = list(row), list(t)
                         t[i] = k
                         q[i] = v + k * TWO_PI
                         nt += abs(k)
@@ -462,11 +472,18 @@ class _Chooser:
                 dist = math.dist(q, ref)
             else:
                 dist = math.hypot(math.dist([q[i] for i in rev], [ref[i] for i in rev]),
-                                  math.dist([q[i] for i in self.slides], [ref[i] for i in self.slides]) / scale)
-            key = (round(dist, 12), nt, c)
-            if best is None or key < best[0]:
-                best = (key, c, q, tuple(t), dist)
-        return best[1], best[2], best[3], best[4]
+                                  math.dist([q[i] for i in slides], [ref[i] for i in slides]) / scale)
+            if dist < bd - 1e-12:
+                better = True
+            elif dist > bd + 1e-12:
+                better = False
+            else:
+                better = (round(dist, 12), nt, c) < (round(bd, 12), best[0], best[1])
+            if better:
+                bd = dist
+                best = (nt, c, q, t)
+        nt, c, q, t = best
+        return c, list(q), tuple(t), bd
 
 
 # -- the study -----------------------------------------------------------------------------------------
