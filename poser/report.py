@@ -434,16 +434,22 @@ def solver_words(result) -> str:
 
 def nearest_point_words(chain, result) -> str:
     """The nearest reachable point with the orientation it assumes: ``"x, y, z mm at rpy r, p, y deg"``."""
+
+    return point_words(chain, result.nearest_point, result.nearest_rotation)
+
+
+def point_words(chain, p, R=None) -> str:
+    """A point ``p`` (3,) and, when given, the tool orientation ``R`` (3, 3) there, with the digits that carry
+    them back in (:func:`decimals`): ``"x, y, z mm with the tool at rpy r, p, y deg"``; "" for None."""
     from poser.core.transforms import matrix_to_rpy
 
-    p = result.nearest_point
     if p is None:
         return ""
-    rpy = chain.units.angle_out(matrix_to_rpy(result.nearest_rotation))
-    dl, da = decimals(chain, "length"), decimals(chain, "angle")
-    xyz = ", ".join(fmt(v, dl) for v in p)
-    return (f"{xyz} {chain.units.length} with the tool at rpy {', '.join(fmt(v, da) for v in rpy)} "
-            f"{chain.units.angle}")
+    xyz = f"{', '.join(fmt(v, decimals(chain, 'length')) for v in p)} {chain.units.length}"
+    if R is None:
+        return xyz
+    rpy = chain.units.angle_out(matrix_to_rpy(R))
+    return f"{xyz} with the tool at rpy {', '.join(fmt(v, decimals(chain, 'angle')) for v in rpy)} {chain.units.angle}"
 
 
 def ik_message(chain, result) -> str:
@@ -582,7 +588,7 @@ def reach_words(chain, v) -> str:
     if v.miss is not None:
         tail = f" The closest approach within limits misses by {miss_text(chain, v.miss)}."
     if v.nearest_point is not None:
-        tail += f" Nearest reachable point: {', '.join(fmt(x, 3) for x in v.nearest_point)} {chain.units.length}."
+        tail += f" Nearest reachable point: {point_words(chain, v.nearest_point, v.nearest_rotation)}."
     if v.target.free_spin:
         tail += (f" No spin about tool Z helps (sampled every {angle(chain, r.SPIN_STEP)}, refined to "
                  f"{angle(chain, r.spin_resolution(), 3)}).")

@@ -12,6 +12,7 @@ import numpy as np
 
 from poser import report
 from poser.cli.args import UsageError, load_arm, load_targets, parse_list, progress_printer, write_output
+from poser.core.transforms import matrix_to_rpy
 
 __all__ = ["add_parser", "run", "study_json", "verdict_json", "CSV_HELP"]
 
@@ -94,6 +95,8 @@ def verdict_json(chain, v):
         "miss": None if v.miss is None else {"position": float(v.miss[0]),
                                               "orientation": float(units.angle_out(v.miss[1]))},
         "nearest_point": None if v.nearest_point is None else [float(x) for x in v.nearest_point],
+        "nearest_rpy": None if v.nearest_rotation is None else
+        [float(x) for x in units.angle_out(matrix_to_rpy(v.nearest_rotation))],
         "blocked_by": [report.violation_words(chain, x) for x in v.violations],
         "decided_by": v.path,
         "fault": v.fault,

@@ -204,7 +204,9 @@ class Verdict:
     miss : (float, float) or None
         Not reached: how far the closest approach within limits is off (length unit, rad).
     nearest_point : ndarray (3,) or None
-        Not reached: the nearest reachable point (``solve``'s), when the position is missed.
+        Not reached: the nearest reachable point (``solve``'s: the closest approach's tool position).
+    nearest_rotation : ndarray (3, 3) or None
+        The tool orientation that point is reached with (None for position-only targets' studies).
     violations : tuple of Violation
         Blocked: the limits the nearest reaching branch breaks.
     blocked_label : str or None
@@ -230,6 +232,7 @@ class Verdict:
     changed: bool = False
     miss: tuple | None = None
     nearest_point: np.ndarray | None = None
+    nearest_rotation: np.ndarray | None = None
     violations: tuple = ()
     blocked_label: str | None = None
     path: str = SOLVE
@@ -637,10 +640,11 @@ class _Study:
         c = res.closest
         miss = None if c is None else (float(c.position_error), float(c.orientation_error))
         npnt = None if res.nearest_point is None else np.array(res.nearest_point)
+        nrot = None if res.nearest_point is None or res.position_only else np.array(res.nearest_rotation)
         if blocked:
-            return Verdict(t, BLOCKED, 0, miss=miss, nearest_point=npnt, violations=tuple(blocked[0].violations),
-                           blocked_label=blocked[0].label, spin=spin)
-        return Verdict(t, OUT_OF_REACH, 0, miss=miss, nearest_point=npnt, spin=spin)
+            return Verdict(t, BLOCKED, 0, miss=miss, nearest_point=npnt, nearest_rotation=nrot,
+                           violations=tuple(blocked[0].violations), blocked_label=blocked[0].label, spin=spin)
+        return Verdict(t, OUT_OF_REACH, 0, miss=miss, nearest_point=npnt, nearest_rotation=nrot, spin=spin)
 
     # free spin ----------------------------------------------------------------------------------
 
