@@ -413,13 +413,17 @@ def evaluate_candidates(chain, P, R, tol=None, near=None) -> CandidateTable:
     kmin, kmax = kmin.astype(np.int64), kmax.astype(np.int64)
     variants = np.where(inside, np.prod(np.maximum(kmax - kmin + 1, 0), axis=-1), 0)
     duplicate = np.zeros(M, bool)
-    if B > 1:
-        d = Q[:, :, None, :] - Q[:, None, :, :]
-        d = np.where(chain.revolute, np.abs(np.mod(d + np.pi, TWO_PI) - np.pi), np.abs(d) / chain.scale)
-        close = d.max(axis=-1) < DUPLICATE
-        both = reaches[:, :, None] & reaches[:, None, :]
-        iu = np.triu_indices(B, 1)
-        duplicate = np.any((close & both)[:, iu[0], iu[1]], axis=1)
+    if B > 1:  # every pair of candidates, joint by joint (a turn's difference wrapped)
+        i0, i1 = np.triu_indices(B, 1)
+        close = reaches[:, i0] & reaches[:, i1]
+        for j in range(n):
+            d = np.abs(Q[:, i0, j] - Q[:, i1, j])
+            if chain.revolute[j]:
+                np.remainder(d, TWO_PI, out=d)
+                close &= (d < DUPLICATE) | (d > TWO_PI - DUPLICATE)
+            else:
+                close &= d < DUPLICATE * chain.scale
+        duplicate = close.any(axis=1)
     return CandidateTable(Q, reaches, inside, free, duplicate, variants, kmin, kmax, excess, pe / chain.scale)
 
 
