@@ -38,18 +38,20 @@ from poser.core.errors import Cancelled, PoserError
 __all__ = ["Studies", "StudyJob", "StudyOutcome", "WorkspaceResult", "ReachResult", "FIELDS", "KINDS", "SHOW",
            "CORE", "compute", "DEFAULT_SAMPLES", "VERDICT_SYMBOLS", "VERDICT_COLOURS"]
 
-WORKSPACE, REACH = "workspace", "reach"
-KINDS = (WORKSPACE, REACH)
+WORKSPACE, REACH, PLACEMENT, CUBE = "workspace", "reach", "placement", "cube"
+KINDS = (WORKSPACE, REACH, PLACEMENT, CUBE)
 """The studies the window runs."""
-TITLES = {WORKSPACE: "Workspace", REACH: "Reach study"}
+TITLES = {WORKSPACE: "Workspace", REACH: "Reach study", PLACEMENT: "Placement search", CUBE: "Test cube"}
 
-FIELDS = ("workspace", "sections", "targets", "reach", "show", "running", "progress", "message")
+FIELDS = ("workspace", "sections", "targets", "reach", "placement", "cube", "show", "running", "progress", "message")
 """Names ``Studies.changed`` carries.
 
 * ``workspace`` — a workspace was stored or cleared (``sections`` follows);
 * ``sections`` — the section outlines (another height);
 * ``targets`` — a target list was read or dropped (``reach`` is cleared with it);
 * ``reach`` — a reach study was stored or cleared;
+* ``placement`` — a placement search over the loaded targets was stored or cleared (cleared with the targets);
+* ``cube`` — a test cube was stored or cleared;
 * ``show`` — a display toggle;
 * ``running`` — a study started or ended (:attr:`Studies.running`); ``progress`` — its share done;
 * ``message`` — :attr:`Studies.message`, the last words about a study (done, cancelled, failed).
@@ -59,6 +61,8 @@ SHOW = {
     "cloud": "workspace point cloud, coloured by manipulability",
     "sections": "workspace section outlines (vertical through the base axis, horizontal at the chosen height)",
     "reach": "reach targets, coloured and shaped by verdict",
+    "coverage": "placement coverage map: targets reached from each base position, and the best placement",
+    "cube": "the performance-test cube with its test positions P1 … P5",
 }
 """The 3D view's study toggles and what each draws."""
 
@@ -119,6 +123,23 @@ class ReachResult:
 
 
 @dataclass(frozen=True)
+class PlacementResult:
+    """A placement search over the loaded target list (:class:`poser.core.place.Placement`), for one arm."""
+
+    placement: object
+    file: object
+    arm_generation: int
+
+
+@dataclass(frozen=True)
+class CubeResult:
+    """A performance-test cube (:class:`poser.core.cube.Cube`), for one arm."""
+
+    cube: object
+    arm_generation: int
+
+
+@dataclass(frozen=True)
 class StudyJob:
     """One request: which study, its inputs, and what it belongs to (to tell a stale result)."""
 
@@ -164,7 +185,20 @@ def _reach(chain, targets, start, progress):
     return reach(chain, targets, start, progress=progress)
 
 
-CORE = {"workspace": _workspace, "sections": _sections, "reach": _reach}
+def _place(chain, targets, ranges, progress):
+    from poser.core.place import grid, place
+
+    # one process: the window's worker is a thread of a Qt program, which must not be forked
+    return place(chain, targets, grid(chain, **ranges), progress=progress, workers=1)
+
+
+def _cube(chain, R, options, progress):
+    from poser.core.cube import cube
+
+    return cube(chain, R, progress=progress, **options)
+
+
+CORE = {"workspace": _workspace, "sections": _sections, "reach": _reach, "place": _place, "cube": _cube}
 """The core's studies as the window calls them (tests wrap them to hold a study at a point)."""
 
 
@@ -182,6 +216,12 @@ def compute(job: StudyJob, progress) -> StudyOutcome:
             tf = p["file"]
             study = CORE["reach"](chain, tf.targets, p.get("start"), progress)
             result = ReachResult(study, tf, job.arm_generation, report.reach_summary(chain, study, tf.skipped))
+        elif job.kind == PLACEMENT:
+            result = PlacementResult(CORE["place"](chain, p["file"].targets, p["ranges"], progress), p["file"],
+                                     job.arm_generation)
+        elif job.kind == CUBE:
+            options = {"plane": p["plane"], "ws": p.get("ws"), "samples": p["samples"]}
+            result = CubeResult(CORE["cube"](chain, p.get("R"), options, progress), job.arm_generation)
         else:
             raise ValueError(f"kind must be one of {', '.join(KINDS)}, got {job.kind!r}")
     except Cancelled:
@@ -221,6 +261,8 @@ class Studies(QObject):
         self._targets_path: Path | None = None
         self._units_read = None  # (length, angle) unit the list was read in
         self._reach: ReachResult | None = None
+        self._placement: PlacementResult | None = None
+        self._cube: CubeResult | None = None
         self._show = {k: True for k in SHOW}
         self._message = ("ok", "")
         self._fraction = 0.0
@@ -249,6 +291,18 @@ class Studies(QObject):
     def reach(self) -> ReachResult | None:
         """The reach study of the present arm over the loaded targets, or None."""
         r = self._reach
+        return r if r is not None and r.arm_generation == self.state.arm_generation else None
+
+    @property
+    def placement(self) -> PlacementResult | None:
+        """The placement search of the present arm over the loaded targets, or None."""
+        r = self._placement
+        return r if r is not None and r.arm_generation == self.state.arm_generation else None
+
+    @property
+    def cube(self) -> CubeResult | None:
+        """The test cube of the present arm, or None."""
+        r = self._cube
         return r if r is not None and r.arm_generation == self.state.arm_generation else None
 
     @property
@@ -342,11 +396,11 @@ class Studies(QObject):
             return False
         self._targets, self._targets_path = tf, Path(path)
         self._units_read = (self.state.chain.units.length, self.state.chain.units.angle)
-        had = self._reach is not None
-        self._reach = None
+        had = [n for n in ("reach", "placement") if getattr(self, "_" + n) is not None]
+        self._reach = self._placement = None
         self._emit("targets")
-        if had:
-            self._emit("reach")
+        for n in had:
+            self._emit(n)
         self._say("near" if tf.problems else "ok", self.targets_words())
         return True
 
@@ -379,6 +433,18 @@ class Studies(QObject):
                           if self._targets is None else "Reach study: the target list holds no usable target.")
                 return False
             params = {"file": self._targets, "start": None}
+        elif kind == PLACEMENT:
+            if self._targets is None or not self._targets.targets:
+                self._say("at", "Placement search: load a target list first (Studies ▸ Load targets…).")
+                return False
+            ranges = {k: params.get(k) for k in ("x", "y", "z", "yaw", "step", "yaw_step")}
+            if ranges["x"] is None or ranges["y"] is None:
+                raise ValueError("a placement search needs x and y ranges")
+            params = {"file": self._targets, "ranges": ranges}
+        elif kind == CUBE:
+            w = self.workspace
+            params = {"R": params.get("R"), "plane": params.get("plane", "y+"), "samples": self.samples,
+                      "ws": None if w is None else w.ws}
         else:
             raise ValueError(f"kind must be one of {', '.join(KINDS)}, got {kind!r}")
         self._number += 1
@@ -454,10 +520,22 @@ class Studies(QObject):
             self._emit("workspace")
             self._emit("sections")
             self._say("ok", f"Workspace measured in {out.seconds:.1f} s (the Workspace tab has its figures).")
-        else:
+        elif out.job.kind == REACH:
             self._reach = out.result
             self._emit("reach")
             self._say("ok", f"Reach study done in {out.seconds:.1f} s: {out.result.summary}")
+        elif out.job.kind == PLACEMENT:
+            self._placement = out.result
+            self._emit("placement")
+            pl = out.result.placement
+            self._say("ok", f"Placement search done in {out.seconds:.1f} s: {pl.grid.size} placements, the best "
+                      f"reaches {pl.best[0].reached} of {pl.targets} targets (the Placement tab lists the best).")
+        else:
+            self._cube = out.result
+            self._emit("cube")
+            c = out.result.cube
+            self._say("ok", f"Test cube done in {out.seconds:.1f} s: {c.reached} of {len(c.study.verdicts)} "
+                      "positions reached within limits (the Cube tab has the figures).")
         return True
 
     def _on_state(self, field_name: str) -> None:
@@ -468,9 +546,8 @@ class Studies(QObject):
         if self._running is not None:
             self._silent.add(self._running.number)  # its "cancelled" would say the old results stay
         self.cancel()  # a study of the old arm is answered for nobody now
-        cleared = [n for n, v in (("workspace", self._workspace), ("reach", self._reach)) if v is not None]
-        self._workspace = None
-        self._reach = None
+        cleared = [n for n in ("workspace", "reach", "placement", "cube") if getattr(self, "_" + n) is not None]
+        self._workspace = self._reach = self._placement = self._cube = None
         if self._targets is not None and self._targets_path is not None and \
                 self._units_read != (st.chain.units.length, st.chain.units.angle):
             path = self._targets_path

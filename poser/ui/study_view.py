@@ -12,6 +12,8 @@ import numpy as np
 
 from poser import report
 from poser.ui.gl_cloud import GLCloud
+from poser.ui.gl_coverage import GLCoverage
+from poser.ui.gl_cube import GLCube
 from poser.ui.gl_reach import GLReach
 from poser.ui.gl_sections import GLSections
 
@@ -28,7 +30,10 @@ class StudyLayers:
         self.cloud = GLCloud()
         self.sections = GLSections(labels)
         self.reach = GLReach()
-        for group in (self.cloud, self.sections, self.reach):
+        self.coverage = GLCoverage(labels)
+        self.cube = GLCube(labels)
+        self.cube_marks = GLReach()  # the cube's test positions, shaped by their verdicts like reach targets
+        for group in (self.cloud, self.sections, self.reach, self.coverage, self.cube, self.cube_marks):
             group.add_to(view)
             group.set_visible(False)
         self._view = view
@@ -41,7 +46,7 @@ class StudyLayers:
             self.redraw()
 
     def _on_studies(self, field: str) -> None:
-        if field in ("workspace", "sections", "reach", "show"):
+        if field in ("workspace", "sections", "reach", "placement", "cube", "show"):
             self.redraw()
 
     def redraw(self) -> None:
@@ -64,4 +69,24 @@ class StudyLayers:
             self.reach.setData(points=np.array([v.target.xyz for v in vs]), verdicts=[v.status for v in vs],
                                size=MARK * st.scale)
         self.reach.set_visible(on)
+        p = s.placement
+        on = p is not None and s.shown("coverage")
+        if on:
+            pl = p.placement
+            g, b = pl.grid, pl.best[0]
+            text = (f"best: {b.reached} of {pl.targets} reached, yaw {report.angle(st.chain, b.yaw, 1)}"
+                    if b.reached else "no placement reaches a target")
+            self.coverage.setData(x=g.x, y=g.y, z=float(g.z.min()), counts=pl.coverage(), total=pl.targets,
+                                  best=b.xyz, label=text, size=MARK * st.scale)
+        self.coverage.set_visible(on)
+        c = s.cube
+        on = c is not None and s.shown("cube") and c.cube.edge > 0
+        if on:
+            cb = c.cube
+            vs = cb.study.verdicts
+            self.cube.setData(corners=cb.corners, plane=cb.plane_corners, positions=cb.positions,
+                              names=[v.target.name for v in vs])
+            self.cube_marks.setData(points=cb.positions, verdicts=[v.status for v in vs], size=MARK * st.scale)
+        self.cube.set_visible(on)
+        self.cube_marks.set_visible(on)
         self._view.update()

@@ -385,3 +385,118 @@ def test_another_length_unit_reads_the_target_list_again(make_window, targets_cs
     assert s.targets is not None and s.targets_path == targets_csv
     assert f"in {chain.units.length} and {chain.units.angle}" in s.targets_words()
     assert "read again" in s.message[1]
+
+
+# -- placement and the test cube ------------------------------------------------------------------------
+
+
+def _small_grid(win):
+    panel = win.studies
+    for key, (lo, hi) in (("x", (-400.0, 400.0)), ("y", (-400.0, 400.0))):
+        panel.place[key][0].setValue(lo)
+        panel.place[key][1].setValue(hi)
+    panel.place_step.setValue(400.0)  # 3 × 3 base positions at the arm's height and yaw
+    assert panel.place_count.text().startswith("9 placements")
+
+
+def test_placement_search_lists_the_best_and_draws_the_coverage_map(make_window, targets_csv):
+    from poser.core.place import grid, place
+
+    win = make_window()
+    s, panel, layers = win.state.studies, win.studies, win.view.studies
+    assert not panel.run_placement()  # no targets yet: said in words
+    assert "load a target list first" in s.message[1]
+    assert s.load_targets(targets_csv)
+    _small_grid(win)
+    assert panel.run_placement()
+    assert s.wait()
+    p = s.placement
+    assert p is not None, s.message
+    direct = place(win.state.chain, s.targets.targets, grid(win.state.chain, **panel.placement_ranges()), workers=1)
+    np.testing.assert_array_equal(p.placement.reached, direct.reached)  # the core's figures, unchanged
+    assert panel.place_table.rowCount() == len(p.placement.best)
+    first = p.placement.best[0]
+    assert panel.place_table.item(0, 5).text() == str(first.reached)
+    assert panel.place_table.item(0, 1).text() == report.fmt(first.xyz[0], 1)
+    heads = [panel.place_table.horizontalHeaderItem(c).text() for c in range(panel.place_table.columnCount())]
+    assert heads[1] == "x [mm]" and heads[4] == "yaw [deg]" and heads[5] == "reached [of 7]"
+    assert layers.coverage.visible() and layers.coverage.tiles == 9
+    panel.toggles["coverage"].setChecked(False)
+    assert not layers.coverage.visible()
+
+
+def test_placement_cancel_keeps_the_search_before(make_window, targets_csv, monkeypatch):
+    win = make_window()
+    s, panel = win.state.studies, win.studies
+    assert s.load_targets(targets_csv)
+    _small_grid(win)
+    panel.run_placement()
+    assert s.wait()
+    p0 = s.placement
+    gate, reached = _hold(monkeypatch, "place")
+    panel.run_placement()
+    assert reached.wait(30)
+    s.cancel()
+    gate.set()
+    assert s.wait()
+    assert s.placement is p0 and "cancelled" in s.message[1]
+
+
+def test_a_grid_that_cannot_be_searched_is_said_in_words(make_window, targets_csv):
+    win = make_window()
+    s, panel = win.state.studies, win.studies
+    assert s.load_targets(targets_csv)
+    panel.place["x"][0].setValue(500.0)
+    panel.place["x"][1].setValue(-500.0)
+    assert panel.place_count.text() == "grid not usable: x range must run from low to high, got 500.0..-500.0"
+    assert not panel.run_placement()
+    assert s.message == ("at", "Placement search not started: x range must run from low to high, got 500.0..-500.0.")
+
+
+def test_the_test_cube_is_found_drawn_and_worded(make_window):
+    win = make_window()
+    s, panel, layers = win.state.studies, win.studies, win.view.studies
+    _workspace(win)
+    assert panel.run_cube()
+    assert s.wait()
+    c = s.cube
+    assert c is not None, s.message
+    cb = c.cube
+    assert cb.workspace is s.workspace.ws  # the Workspace tab's, not measured again
+    assert cb.edge > 0 and len(cb.study.verdicts) == 5
+    words = panel.cube_words.text()
+    assert report.length(win.state.chain, cb.edge, 1) in words and "from memory" in words
+    for v in cb.study.verdicts:
+        assert report.reach_words(win.state.chain, v) in words
+    assert layers.cube.visible() and layers.cube_marks.visible()
+    assert sum(layers.cube_marks.counts.values()) == 5
+    assert len(layers.cube._edges.pos) == 24  # twelve edges
+
+
+def test_the_cube_takes_the_orientation_typed(make_window):
+    from poser.core.transforms import rpy_to_matrix
+
+    win = make_window()
+    panel = win.studies
+    assert panel.cube_rotation() is None  # "tool as at home"
+    panel.cube_mode.setCurrentIndex(1)
+    for sp, v in zip(panel.cube_rpy, (180.0, 0.0, 90.0)):
+        sp.setValue(v)
+    np.testing.assert_allclose(panel.cube_rotation(), rpy_to_matrix(np.radians([180.0, 0.0, 90.0])), atol=1e-12)
+
+
+def test_arm_switch_clears_placement_and_cube(make_window, targets_csv, tmp_path):
+    win = make_window()
+    s, layers, panel = win.state.studies, win.view.studies, win.studies
+    _workspace(win)
+    s.load_targets(targets_csv)
+    _small_grid(win)
+    panel.run_placement()
+    assert s.wait()
+    panel.run_cube()
+    assert s.wait()
+    assert s.placement is not None and s.cube is not None
+    win.state.set_arm(armfile.load(copy_demo("wren6.toml", tmp_path)), path=None)
+    assert s.placement is None and s.cube is None
+    assert not layers.coverage.visible() and not layers.cube.visible() and not layers.cube_marks.visible()
+    assert panel.place_table.rowCount() == 0
