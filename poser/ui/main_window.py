@@ -298,7 +298,7 @@ class MainWindow(QMainWindow):
         w = d.widget()
         target = {"view": getattr(self.view, "container", self.view), "joints": self.joints.home_button,
                   "frames": self.frames.link_combo, "target": self.target.xyz[0],
-                  "editor": self.editor.name, "studies": self.studies.run_workspace_button}.get(key, w)
+                  "editor": self.editor.name, "studies": self.studies.tabs}.get(key, w)
         target.setFocus(Qt.FocusReason.ShortcutFocusReason)
 
     def _help(self, cautions: bool) -> None:

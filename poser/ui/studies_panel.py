@@ -412,7 +412,7 @@ class StudiesPanel(QWidget):
             acts.append(a)
             return a
 
-        act("Run w&orkspace", lambda _=False: self.studies.run("workspace"), SHORTCUTS["workspace"])
+        act("Run wor&kspace", lambda _=False: self.studies.run("workspace"), SHORTCUTS["workspace"])
         act("&Load targets…", lambda _=False: self.choose_targets(), SHORTCUTS["load"])
         act("Run &reach study", lambda _=False: self.studies.run("reach"), SHORTCUTS["reach"])
         act("Run &placement search", lambda _=False: self.run_placement(), SHORTCUTS["placement"])

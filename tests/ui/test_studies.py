@@ -500,3 +500,22 @@ def test_arm_switch_clears_placement_and_cube(make_window, targets_csv, tmp_path
     assert s.placement is None and s.cube is None
     assert not layers.coverage.visible() and not layers.cube.visible() and not layers.cube_marks.visible()
     assert panel.place_table.rowCount() == 0
+
+
+def test_keyboard_reaches_every_study_and_help_has_the_caution(make_window):
+    from poser.ui.help import CAUTIONS, guide_html
+
+    win = make_window()
+    menu = next(a.menu() for a in win.menuBar().actions() if a.text() == "Stu&dies")
+    keys = {a.text(): a.shortcut().toString() for a in menu.actions() if not a.isSeparator()}
+    assert keys["Run wor&kspace"] == "Ctrl+Shift+W" and keys["&Load targets…"] == "Ctrl+Shift+L"
+    assert keys["Run &reach study"] == "Ctrl+Shift+R" and keys["Run &placement search"] == "Ctrl+Shift+P"
+    assert keys["Find the test &cube"] == "Ctrl+Shift+B" and keys["Ca&ncel the running study"] == "Ctrl+."
+    go = next(a for a in win.actions() if a.text() == "Go to Studies")
+    assert go.shortcut().toString() == "Ctrl+6"
+    win.docks["target"].raise_()
+    go.trigger()
+    assert win.studies.isVisible() and win.studies.tabs.isVisible()
+    html = guide_html()
+    assert "<h3>Studies</h3>" in html and "not a plan for a real robot" in html
+    assert any("Verify every study result on the robot's controller" in c for c in CAUTIONS)
