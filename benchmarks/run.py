@@ -26,7 +26,7 @@ sys.path.insert(0, str(HERE.parent))
 sys.path.insert(0, str(HERE))
 import poser  # noqa: E402,F401 - before numpy: Poser's BLAS settings (one BLAS thread) hold for every section
 
-SECTIONS = ("fk_bench", "ik_bench", "io_bench", "gui")
+SECTIONS = ("fk_bench", "ik_bench", "io_bench", "study_bench", "gui")
 
 
 def main(argv=None) -> int:

@@ -54,10 +54,17 @@ __all__ = [
     "move_cells",
     "spin_cell",
     "configuration_cell",
-    "workspace_words",
     "inside_workspace_words",
     "ISO_9283_NOTE",
     "NEAR_LIMIT_MARGIN",
+    "STUDY_CAUTION",
+    "length_digits",
+    "point_text",
+    "size_text",
+    "workspace_lines",
+    "placement_words",
+    "PLACEMENT_NOTE",
+    "cube_lines",
 ]
 
 NEAR_LIMIT_MARGIN = 0.05
@@ -72,7 +79,9 @@ def fmt(v: float, digits: int = 3) -> str:
     v = float(v)
     if not math.isfinite(v):
         return "∞" if v > 0 else "-∞" if v < 0 else "–"
-    text = f"{v:.{digits}f}".rstrip("0").rstrip(".")
+    text = f"{v:.{digits}f}"
+    if "." in text:  # only decimals lose their trailing zeros (310 stays 310)
+        text = text.rstrip("0").rstrip(".")
     return "0" if text in ("-0", "") else text
 
 
@@ -613,20 +622,101 @@ def reach_summary(chain, study, skipped: int = 0) -> str:
     return s + "."
 
 
-# -- the workspace ------------------------------------------------------------------------------------
+STUDY_CAUTION = ("Joint limits, base and tool are included; links may still collide with each other, the cell or "
+                 "the work: verify every result on the robot's controller before it moves.")
+"""Said under every study (CLI, pictures, window)."""
+
+_LENGTH_DIGITS = {"mm": 1, "in": 3, "m": 4}
 
 
-def workspace_words(chain, ws) -> str:
-    """A measured workspace (:class:`poser.core.workspace.Workspace`) in one sentence: size with its error,
-    method, resolution and samples, and the bounds."""
+def length_digits(chain) -> int:
+    """Decimals a position is shown with in the arm's length unit (0.1 mm, 0.001 in, 0.1 mm in m)."""
+    return _LENGTH_DIGITS.get(chain.units.length, 3)
+
+
+def point_text(chain, p) -> str:
+    """A world point: ``"x 850.0, y -120.0, z 640.0 mm"``."""
+    d = length_digits(chain)
+    return f"x {fmt(p[0], d)}, y {fmt(p[1], d)}, z {fmt(p[2], d)} {chain.units.length}"
+
+
+def size_text(chain, ws) -> str:
+    """A workspace's size with its error, in m³ (m²) and in the arm's unit: ``"Volume 34.47 m³ ± 0.2078 m³ (0.6 %,
+    estimated error) = 3.447e+10 mm³"`` (four significant digits)."""
+    from poser.core.units import LENGTH_UNITS
+
     L = chain.units.length
-    what, unit = ("Area", f"{L}²") if ws.planar else ("Volume", f"{L}³")
-    rel = 100.0 * ws.relative_error if math.isfinite(ws.relative_error) else math.inf
+    k = 2 if ws.planar else 3
+    what, sup = ("Area", "²") if ws.planar else ("Volume", "³")
+    f = LENGTH_UNITS[L] ** k
+    text = (f"{what} {ws.size * f:.4g} m{sup} ± {ws.error * f:.4g} m{sup} ({fmt(100 * ws.relative_error, 2)} %, "
+            "estimated error)")
+    if L != "m":
+        text += f" = {ws.size:.4g} {L}{sup}"
+    return text
+
+
+def workspace_lines(chain, ws) -> list[str]:
+    """What ``poser workspace`` says of a :class:`poser.core.workspace.Workspace` (one line each)."""
+    from poser.core.workspace import BOUNDARY_SHARE
+
+    L = chain.units.length
+    d = length_digits(chain)
     lo, hi = ws.bounds
-    box = ", ".join(f"{a} {fmt(lo[k], 1)} … {fmt(hi[k], 1)}" for k, a in enumerate("xyz"))
-    return (f"{what} {ws.size:.4g} {unit} ± {ws.error:.2g} {unit} ({fmt(rel, 2)} %): {ws.method}, cells of "
-            f"{fmt(ws.resolution, 2)} {L}, {ws.samples:,} joint samples within the limits (base and tool "
-            f"included). Bounds: {box} {L}.")
+    lines = [size_text(chain, ws),
+             f"Method: {ws.method}; finest cell {fmt(ws.resolution, d + 1)} {L}; {ws.samples} joint samples "
+             f"(stratified, {fmt(100 * BOUNDARY_SHARE, 0)} % with one joint at a limit)",
+             f"Bounds: x {fmt(lo[0], d)} … {fmt(hi[0], d)}, y {fmt(lo[1], d)} … {fmt(hi[1], d)}, "
+             f"z {fmt(lo[2], d)} … {fmt(hi[2], d)} {L}"]
+    if len(ws.dexterity):
+        import numpy as np
+
+        lines.append(f"Manipulability over the tool points: median "
+                     f"{manipulability_text(chain, float(np.median(ws.dexterity)))}, largest "
+                     f"{manipulability_text(chain, float(ws.dexterity.max()))}")
+    return lines
+
+
+PLACEMENT_NOTE = ("A placement search is a screening on a grid (free-spin targets at the reach study's coarse spin "
+                  "steps): check the chosen placement with a reach study of the placed arm.")
+"""Said under every placement search."""
+
+
+def placement_words(chain, placed, count: int, names=None) -> str:
+    """One placement (:class:`poser.core.place.Placed`) of a search over ``count`` targets, in one sentence;
+    ``names``: the targets' names (the target of the smallest margin is named, else numbered from 1)."""
+    yaw = angle(chain, placed.yaw, 2)
+    s = f"Base at {point_text(chain, placed.xyz)}, yaw {yaw}: {placed.reached} of {count} targets reached"
+    if placed.reached:
+        j = placed.margin_joint
+        s += (f"; smallest limit margin {fmt(100 * placed.margin, 2)} % of the range of {_name(chain, j)}"
+              f" (target {placed.margin_target + 1}"
+              + (f" '{printable(names[placed.margin_target])}'" if names is not None else "")
+              + "); smallest manipulability "
+              f"{manipulability_text(chain, placed.manipulability)}")
+    return s + "."
+
+
+def cube_lines(chain, cube) -> list[str]:
+    """What ``poser cube`` says of a :class:`poser.core.cube.Cube` (one line each)."""
+    from poser.core.transforms import matrix_to_rpy
+
+    L = chain.units.length
+    d = length_digits(chain)
+    if cube.edge <= 0:
+        return ["No cube fits in the workspace."]
+    lines = [f"Largest cube with edges along the base axes: edge {fmt(cube.edge, d)} {L} (good to about "
+             f"{fmt(cube.accuracy, d)} {L}), centre {point_text(chain, cube.centre)}",
+             f"Positions on the diagonal plane '{cube.plane}', 10 % of the diagonal from its corners; "
+             + ("position only (the arm does not set its tool orientation)" if cube.R is None else
+                "tool orientation roll, pitch, yaw "
+                + ", ".join(fmt(float(chain.units.angle_out(a)), 2) for a in matrix_to_rpy(cube.R))
+                + f" {chain.units.angle} (fixed X, Y, Z)")]
+    for v, p in zip(cube.study.verdicts, cube.positions):
+        lines.append(f"  {v.target.name}  {point_text(chain, p)}: {reach_words(chain, v)}")
+    lines.append(f"{cube.study.reached} of {len(cube.study.verdicts)} positions reached within limits.")
+    lines.append(ISO_9283_NOTE[0].upper() + ISO_9283_NOTE[1:] + ".")
+    return lines
 
 
 def inside_workspace_words(chain, inside) -> str:

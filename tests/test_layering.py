@@ -43,9 +43,12 @@ def test_the_core_imports_no_qt_and_nothing_above_it():
 
 
 def test_the_command_line_and_the_words_import_no_qt():
-    loaded = _loaded_after("import poser.cli, poser.cli.ik, poser.cli.fk, poser.cli.check, poser.report, poser.armfile")
+    loaded = _loaded_after("import poser.cli, poser.cli.ik, poser.cli.fk, poser.cli.check, poser.cli.reach, "
+                           "poser.cli.workspace, poser.cli.place, poser.cli.cube, poser.report, poser.armfile, "
+                           "poser.io.targets, poser.core.place, poser.core.cube")
     assert not sorted(m for m in loaded if m.split(".")[0] in QT)
-    assert not sorted(m for m in loaded if m.startswith("poser.ui"))
+    assert not sorted(m for m in loaded if m.startswith(("poser.ui", "poser.plot")))  # pictures load Qt on demand
+    assert not sorted(m for m in loaded if m.split(".")[0] in ("dask", "distributed"))  # only for --scheduler
 
 
 def test_the_file_layer_stays_below_the_solvers():

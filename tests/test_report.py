@@ -21,6 +21,7 @@ def _demo(stem):
 
 def test_numbers_read_plainly():
     assert report.fmt(1.23456) == "1.235" and report.fmt(-0.0001) == "0" and report.fmt(float("inf")) == "∞"
+    assert report.fmt(310, 0) == "310" and report.fmt(1200.0, 0) == "1200" and report.fmt(2.50, 2) == "2.5"
     assert report.num(12.5) == "12.5" and report.num(3e-14) == "0"
 
 

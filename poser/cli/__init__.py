@@ -5,6 +5,10 @@
     poser fk ARM.toml --joints V1,V2,... [--frames] [--json]
     poser ik ARM.toml --xyz X,Y,Z [--rpy R,P,Y] [--near V1,...] [--json]
     poser reach ARM.toml TARGETS.csv [--near V1,...] [--json] [--out REPORT.csv]
+    poser workspace ARM.toml [--samples N] [--json] [--png OUT.png] [--height Z]
+    poser place ARM.toml TARGETS.csv --x A..B --y C..D [--z E..F] [--yaw G..H] [--step S] [--yaw-step T]
+                [--top K] [--json] [--png COVERAGE.png] [--out-arm PLACED.toml] [--scheduler ADDRESS] [--workers N]
+    poser cube ARM.toml [--rpy R,P,Y] [--plane P] [--samples N] [--json] [--png OUT.png]
 
 Every value is read and printed in the arm's own units.  Bad input — and an
 output that cannot be written — ends with exit status 2 and one line
@@ -20,12 +24,13 @@ import os
 import sys
 
 from poser import __version__
-from poser.cli import check, fk, ik, reach, window
+from poser.cli import check, cube, fk, ik, place, reach, window, workspace
 from poser.cli.args import Parser, UsageError, glue_negative_lists, load_arm, parse_list
 
 __all__ = ["main", "entry", "UsageError", "load_arm", "parse_list", "SUBCOMMANDS"]
 
-SUBCOMMANDS = {"check": check, "fk": fk, "ik": ik, "reach": reach}
+SUBCOMMANDS = {"check": check, "fk": fk, "ik": ik, "reach": reach, "workspace": workspace, "place": place,
+               "cube": cube}
 
 
 def build_parsers():

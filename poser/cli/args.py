@@ -12,9 +12,10 @@ import re
 import numpy as np
 
 __all__ = ["UsageError", "Parser", "parse_list", "glue_negative_lists", "load_arm", "MAX_VALUE", "LIST_OPTIONS",
-           "same_file", "write_output", "progress_printer", "load_targets"]
+           "same_file", "write_output", "progress_printer", "load_targets", "parse_count", "parse_range",
+           "check_png", "draw"]
 
-LIST_OPTIONS = ("--joints", "--xyz", "--rpy", "--near", "--target")
+LIST_OPTIONS = ("--joints", "--xyz", "--rpy", "--near", "--target", "--x", "--y", "--z", "--yaw", "--height")
 _NUMBERISH = re.compile(r"^-([\d.]|nan|inf)", re.IGNORECASE)
 _NUMBER = re.compile(r"^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$", re.ASCII)
 """A plain decimal number as people type it (``float()`` would also take ``1_0``, ``inf`` or other scripts' digits)."""
@@ -152,3 +153,54 @@ def load_targets(path, chain, inputs=()):
         raise UsageError(f"{path}: holds no target to check{rows}; expected rows of name,x,y,z"
                          "[,roll,pitch,yaw][,free_spin]")
     return tf
+
+
+def parse_count(text: str, what: str, lo: int, hi: int) -> int:
+    """A whole number as typed (``500000``, ``5e5``) within [lo, hi]; a UsageError naming ``what`` otherwise."""
+    try:
+        v = float(parse_list(text, what, 1)[0])
+    except UsageError:
+        raise UsageError(f"{what} must be a whole number from {lo} to {hi}, got {text!r}") from None
+    if v != int(v) or not lo <= v <= hi:
+        raise UsageError(f"{what} must be a whole number from {lo} to {hi}, got {text!r}")
+    return int(v)
+
+
+_RANGE = re.compile(r"^\s*(\S+?)\s*\.\.\s*(\S+)\s*$")
+
+
+def parse_range(text: str, what: str) -> tuple[float, float]:
+    """``"A..B"`` (or one value ``"A"``: from A to A) as two numbers, low first; a UsageError naming ``what``."""
+    m = _RANGE.match(text)
+    parts = [m.group(1), m.group(2)] if m else [text.strip()]
+    try:
+        vals = [float(parse_list(p, what, 1)[0]) for p in parts]
+    except UsageError:
+        raise UsageError(f"{what} must be a range LOW..HIGH of two numbers (or one number), got {text!r}") from None
+    lo, hi = vals[0], vals[-1]
+    if hi < lo:
+        raise UsageError(f"{what} must run from low to high (LOW..HIGH), got {text!r}")
+    return lo, hi
+
+
+def check_png(path, option="--png"):
+    """Refuse a picture path that cannot be written before any work is done (UsageError naming ``option``)."""
+    import os
+
+    folder = os.path.dirname(os.path.abspath(path))
+    if not str(path).lower().endswith(".png"):
+        raise UsageError(f"{option} must name a .png file, got {path!r}")
+    if not os.path.isdir(folder):
+        raise UsageError(f"{option}: folder {folder!r} does not exist")
+
+
+def draw(module: str, func: str, *args, option="--png", path=None, **kwargs):
+    """Draw a picture with ``poser.plot.<module>.<func>(*args, path, **kwargs)`` — imported only now: Qt is
+    loaded for pictures alone.  A picture that cannot be written is a UsageError naming ``option``."""
+    import importlib
+
+    mod = importlib.import_module(f"poser.plot.{module}")
+    try:
+        getattr(mod, func)(*args, path, **kwargs)
+    except OSError as exc:
+        raise UsageError(f"{option}: cannot write {path!r}: {exc}") from None

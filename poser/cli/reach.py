@@ -13,7 +13,7 @@ import numpy as np
 from poser import report
 from poser.cli.args import UsageError, load_arm, load_targets, parse_list, progress_printer, write_output
 
-__all__ = ["add_parser", "run", "study_json", "CSV_HELP"]
+__all__ = ["add_parser", "run", "study_json", "verdict_json", "CSV_HELP"]
 
 HELP = "reach study: every target of a CSV list checked, with its branch"
 
@@ -56,7 +56,8 @@ def _rpy_user(chain, R):
     return None if R is None else [float(v) for v in chain.units.angle_out(matrix_to_rpy(R))]
 
 
-def _verdict_json(chain, v):
+def verdict_json(chain, v):
+    """One target's verdict as a JSON object (arm units)."""
     units = chain.units
     t = v.target
     margin = None
@@ -119,7 +120,7 @@ def study_json(chain, study, tf) -> dict:
         "warnings": [{"line": p.line, "message": p.message} for p in tf.problems
                      if not p.message.startswith("row skipped")],
         "summary": report.reach_summary(chain, study, tf.skipped),
-        "targets": [_verdict_json(chain, v) for v in study.verdicts],
+        "targets": [verdict_json(chain, v) for v in study.verdicts],
     }
 
 

@@ -131,7 +131,7 @@ class Grid:
         return from_xyz_rpy(xyz, rpy)
 
 
-def grid(chain, x, y, z=None, yaw=None, step=None, yaw_step=None) -> Grid:
+def grid(chain, x, y, z=None, yaw=None, step=None, yaw_step=None, base_rpy=None) -> Grid:
     """The placement grid.
 
     Parameters
@@ -147,13 +147,17 @@ def grid(chain, x, y, z=None, yaw=None, step=None, yaw_step=None) -> Grid:
         Largest spacing of x, y, z (length unit).  Default: the widest range / 20.
     yaw_step : float, optional
         Largest spacing of yaw (rad).  Default 15°.
+    base_rpy : (float, float, float), optional
+        The arm's mount roll, pitch, yaw as written in its file (rad): roll and pitch are kept and yaw is the
+        default yaw.  Default: read from ``chain.base``.
 
     Returns
     -------
     Grid
-        Roll and pitch are the arm's present ones (read from ``chain.base``).
     """
-    rpy = matrix_to_rpy(chain.base[:3, :3])
+    rpy = matrix_to_rpy(chain.base[:3, :3]) if base_rpy is None else np.asarray(base_rpy, float)
+    if rpy.shape != (3,) or not np.all(np.isfinite(rpy)):
+        raise PoserValueError(f"base_rpy must be 3 finite angles (rad), got {base_rpy!r}")
     z = (float(chain.base[2, 3]),) * 2 if z is None else z
     yaw = (float(rpy[2]),) * 2 if yaw is None else yaw
     for name, r in (("x", x), ("y", y), ("z", z), ("yaw", yaw)):

@@ -444,20 +444,26 @@ class _Chooser:
         self.zero = (0,) * chain.n
 
     def best(self, cands, ref):
-        """The best of ``cands`` [(values, kmin, kmax) lists]: (index, its values with turns, its turns, distance)."""
+        """The best of ``cands`` [(values, kmin, kmax) lists]: (index, its values with turns, its turns, distance).
+
+        Ranked by (distance rounded to 12 decimals, extra turns, order); the rounding is worked out only for
+        distances within 10⁻¹² of the best so far (farther apart, rounding cannot change their order)."""
         best = None
-        wide, rev, scale = self.wide, self.rev, self.scale
+        bd = math.inf
+        wide, rev, scale, slides = self.wide, self.rev, self.scale, self.slides
         for c, (row, a_s, b_s) in enumerate(cands):
-            q = list(row)
+            q = row
             t = self.zero
             nt = 0
             if wide:
-                t = list(t)
                 for w, i in enumerate(wide):
                     # |v + 2πk − r| is convex in k: the nearest turn within [a, b] is the unconstrained one, clipped
                     v = row[i]
-                    k = min(max(round((ref[i] - v) / TWO_PI), a_s[w]), b_s[w])
+                    k = round((ref[i] - v) / TWO_PI)
+                    k = a_s[w] if k < a_s[w] else b_s[w] if k > b_s[w] else k
                     if k:
+                        if t is self.zero:
+                            q, t = list(row), list(t)
                         t[i] = k
                         q[i] = v + k * TWO_PI
                         nt += abs(k)
@@ -465,11 +471,18 @@ class _Chooser:
                 dist = math.dist(q, ref)
             else:
                 dist = math.hypot(math.dist([q[i] for i in rev], [ref[i] for i in rev]),
-                                  math.dist([q[i] for i in self.slides], [ref[i] for i in self.slides]) / scale)
-            key = (round(dist, 12), nt, c)
-            if best is None or key < best[0]:
-                best = (key, c, q, tuple(t), dist)
-        return best[1], best[2], best[3], best[4]
+                                  math.dist([q[i] for i in slides], [ref[i] for i in slides]) / scale)
+            if dist < bd - 1e-12:
+                better = True
+            elif dist > bd + 1e-12:
+                better = False
+            else:
+                better = (round(dist, 12), nt, c) < (round(bd, 12), best[0], best[1])
+            if better:
+                bd = dist
+                best = (nt, c, q, t)
+        nt, c, q, t = best
+        return c, list(q), tuple(t), bd
 
 
 # -- the study -----------------------------------------------------------------------------------------

@@ -48,7 +48,7 @@ from poser.core.progress import reporter
 from poser.core.transforms import TWO_PI
 
 __all__ = ["Workspace", "workspace", "sample_joints", "section", "Section", "contains", "SECTIONS", "RINGS",
-           "VOXELS", "PIXELS"]
+           "VOXELS", "PIXELS", "vertical_plane", "outline_in_plane"]
 
 SECTIONS = "sections about the base axis"
 RINGS = "rings about the first axis"
@@ -627,40 +627,64 @@ def section(ws: Workspace, plane: str = "vertical", height: float | None = None,
         raise PoserValueError(f"plane must be 'horizontal' or 'vertical', got {plane!r}")
     if ws.planar:
         raise PoserValueError("a planar arm's workspace is an area in its plane; plane sections apply to spatial arms")
-    B = np.eye(4) if base is None else np.asarray(base, float)
     h = ws.resolution
     lo, hi = ws.bounds[0] - 2 * h, ws.bounds[1] + 2 * h
     if plane == "horizontal":
         z0 = 0.5 * (lo[2] + hi[2]) if height is None else float(height)
-        u0, v0 = lo[0], lo[1]
-        nu, nv = int((hi[0] - lo[0]) / h) + 2, int((hi[1] - lo[1]) / h) + 2
-        uu, vv = u0 + (np.arange(nu) + 0.5) * h, v0 + (np.arange(nv) + 0.5) * h
-        U, V = np.meshgrid(uu, vv, indexing="ij")
-        pts = np.stack([U, V, np.full_like(U, z0)], axis=-1)
+        o, eu, ev = np.array([0.0, 0.0, z0]), np.array([1.0, 0.0, 0.0]), np.array([0.0, 1.0, 0.0])
+        return Section(plane, z0, outline_in_plane(ws, o, eu, ev, (lo[0], hi[0]), (lo[1], hi[1])))
+    o, ex, ez = vertical_plane(ws, base)
+    corners = np.array([[x, y, z] for x in (lo[0], hi[0]) for y in (lo[1], hi[1]) for z in (lo[2], hi[2])]) - o
+    us, vs = corners @ ex, corners @ ez
+    reach = float(np.max(np.abs(us)))
+    return Section(plane, None, outline_in_plane(ws, o, ex, ez, (-reach, reach), (float(vs.min()), float(vs.max()))))
 
-        def to_world(a, b):
-            return np.stack([a, b, np.full_like(a, z0)], axis=-1)
-    else:
-        z0 = None
-        o = ws.axis[0] if ws.axis is not None else B[:3, 3]
-        ez = ws.axis[1] if ws.axis is not None else B[:3, 2]
-        ex = B[:3, 0] - ez * float(B[:3, 0] @ ez)
-        if np.linalg.norm(ex) < 1e-9:
-            ex = _perp_unit(ez)
-        ex = ex / np.linalg.norm(ex)
-        corners = np.array([[x, y, z] for x in (lo[0], hi[0]) for y in (lo[1], hi[1]) for z in (lo[2], hi[2])]) - o
-        us, vs = corners @ ex, corners @ ez
-        reach = float(np.max(np.abs(us)))
-        u0, v0 = -reach, float(vs.min())
-        nu, nv = int(2 * reach / h) + 2, int((vs.max() - vs.min()) / h) + 2
-        uu, vv = u0 + (np.arange(nu) + 0.5) * h, v0 + (np.arange(nv) + 0.5) * h
-        U, V = np.meshgrid(uu, vv, indexing="ij")
-        pts = o + U[..., None] * ex + V[..., None] * ez
 
-        def to_world(a, b):
-            return o + np.outer(a, ex) + np.outer(b, ez)
-    occ = contains(ws, pts)
-    return Section(plane, z0, [to_world(c[:, 0], c[:, 1]) for c in _outline(occ, u0, v0, h)])
+def vertical_plane(ws: Workspace, base=None):
+    """The vertical section's plane: (point (3,), in-plane direction across (3,), direction along the axis (3,))
+    — through the joint 1 line (or the base origin), spanned by it and the base frame's x axis.
+
+    Parameters
+    ----------
+    ws : Workspace
+    base : array_like (4, 4), optional
+        The arm's base pose (default identity).
+    """
+    B = np.eye(4) if base is None else np.asarray(base, float)
+    o = ws.axis[0] if ws.axis is not None else B[:3, 3]
+    ez = ws.axis[1] if ws.axis is not None else B[:3, 2]
+    ex = B[:3, 0] - ez * float(B[:3, 0] @ ez)
+    if np.linalg.norm(ex) < 1e-9:
+        ex = _perp_unit(ez)
+    return np.array(o, float), ex / np.linalg.norm(ex), np.array(ez, float)
+
+
+def outline_in_plane(ws: Workspace, o, eu, ev, u_range, v_range, pixel=None) -> list:
+    """The workspace's outline in the plane ``o + u·eu + v·ev`` over the given ranges (length unit).
+
+    Parameters
+    ----------
+    ws : Workspace
+    o, eu, ev : array_like (3,)
+        A point of the plane and two unit directions in it.
+    u_range, v_range : (float, float)
+    pixel : float, optional
+        Pixel size (default the grid's cell size; at most 4096 pixels a side).
+
+    Returns
+    -------
+    list of ndarray (k, 3)
+        Closed world polylines between reached and unreached pixels (marching squares).
+    """
+    span = max(float(u_range[1] - u_range[0]), float(v_range[1] - v_range[0]), 1e-300)
+    h = max(ws.resolution if pixel is None else float(pixel), span / 4096)
+    o, eu, ev = (np.asarray(a, float) for a in (o, eu, ev))
+    u0, v0 = float(u_range[0]), float(v_range[0])
+    nu, nv = int((u_range[1] - u0) / h) + 2, int((v_range[1] - v0) / h) + 2
+    uu, vv = u0 + (np.arange(nu) + 0.5) * h, v0 + (np.arange(nv) + 0.5) * h
+    U, V = np.meshgrid(uu, vv, indexing="ij")
+    occ = contains(ws, o + U[..., None] * eu + V[..., None] * ev)
+    return [o + np.outer(c[:, 0], eu) + np.outer(c[:, 1], ev) for c in _outline(occ, u0, v0, h)]
 
 
 def _outline(occ, u0, v0, h):

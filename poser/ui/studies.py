@@ -92,7 +92,7 @@ class WorkspaceResult:
     height : float or None
     arm_generation : int
     words : str
-        :func:`poser.report.workspace_words`.
+        :func:`poser.report.workspace_lines` (what ``poser workspace`` prints), one line each.
     """
 
     ws: object
@@ -211,7 +211,7 @@ def compute(job: StudyJob, progress) -> StudyOutcome:
             ws = CORE["workspace"](chain, p["samples"], progress)
             vertical, horizontal, h = CORE["sections"](chain, ws, p.get("height"))
             result = WorkspaceResult(ws, vertical, horizontal, h, job.arm_generation,
-                                     report.workspace_words(chain, ws))
+                                     "\n".join(report.workspace_lines(chain, ws)))
         elif job.kind == REACH:
             tf = p["file"]
             study = CORE["reach"](chain, tf.targets, p.get("start"), progress)

@@ -99,6 +99,8 @@ class StudiesPanel(QWidget):
         self.message = _wrapped("study message")
         lay.addWidget(self.message)
         lay.addLayout(tl)
+        self.caution = _note(report.STUDY_CAUTION)
+        self.caution.setAccessibleName("studies caution")
 
         # workspace -----------------------------------------------------------------------------
         self.tabs = QTabWidget()
@@ -175,6 +177,7 @@ class StudiesPanel(QWidget):
         self.tabs.addTab(self._placement_tab(), "Placement")
         self.tabs.addTab(self._cube_tab(), "Cube")
         lay.addWidget(self.tabs, 1)
+        lay.addWidget(self.caution)
 
         self.studies.changed.connect(self._on_studies)
         state.changed.connect(self._on_state)
@@ -361,14 +364,15 @@ class StudiesPanel(QWidget):
             return
         pl = p.placement
         best = pl.best
+        names = [t.name for t in p.file.targets]
         self.place_words.setText(
-            f"{pl.grid.size:,} placements searched; the best reaches {best[0].reached} of {pl.targets} targets. "
-            "Coverage map in the 3D view: a tile per base position, pale (none reached) → amber (half) → green "
-            "(all), the best over the heights and yaws; the ring marks the best placement. "
-            "A screening on a grid: check the chosen placement with a reach study of the placed arm.")
+            f"{pl.grid.size:,} placements searched. Best: {report.placement_words(chain, best[0], pl.targets, names)}"
+            "\nCoverage map in the 3D view: a tile per base position, pale (none reached) → amber (half) → green "
+            f"(all), the best over the heights and yaws; the ring marks the best placement.\n{report.PLACEMENT_NOTE}")
         self.place_table.setRowCount(len(best))
         for r, b in enumerate(best):
-            cells = [str(r + 1), report.fmt(b.xyz[0], 1), report.fmt(b.xyz[1], 1), report.fmt(b.xyz[2], 1),
+            d = report.length_digits(chain)
+            cells = [str(r + 1), report.fmt(b.xyz[0], d), report.fmt(b.xyz[1], d), report.fmt(b.xyz[2], d),
                      report.fmt(float(u.angle_out(b.yaw)), 2), str(b.reached),
                      report.fmt(100 * b.margin, 2) if b.reached else "–",
                      report.manipulability_figure(chain, b.manipulability if b.reached else None)]
@@ -383,18 +387,10 @@ class StudiesPanel(QWidget):
             self.cube_words.setText("No test cube found for this arm yet.")
             return
         cb = c.cube
-        if cb.edge <= 0:
-            self.cube_words.setText("No cube fits in the workspace.")
-            return
-        L = chain.units.length
-        centre = ", ".join(report.fmt(v, 1) for v in cb.centre)
-        lines = [f"Edge {report.length(chain, cb.edge, 1)} (good to about {report.length(chain, cb.accuracy, 1)}), "
-                 f"centre {centre} {L}; positions on the diagonal plane '{cb.plane}'; "
-                 f"{cb.reached} of {len(cb.study.verdicts)} reached within limits."]
-        for v, p in zip(cb.study.verdicts, cb.positions):
-            lines.append(f"{VERDICT_SYMBOLS.get(v.status, '?')} {v.target.name} at "
-                         f"{', '.join(report.fmt(x, 1) for x in p)} {L}: {report.reach_words(chain, v)}")
-        lines.append(report.ISO_9283_NOTE[0].upper() + report.ISO_9283_NOTE[1:] + ".")
+        lines = report.cube_lines(chain, cb)  # what poser cube prints
+        marks = {v.target.name: VERDICT_SYMBOLS.get(v.status, "?") for v in cb.study.verdicts}
+        lines = [f"{marks[ln.split()[0]]} {ln.strip()}" if ln.startswith("  ") and ln.split()[0] in marks else ln
+                 for ln in lines]
         self.cube_words.setText("\n".join(lines))
 
     # -- the menu ---------------------------------------------------------------------------------

@@ -98,8 +98,9 @@ def test_workspace_runs_on_the_worker_with_progress_and_shows_its_figures(make_w
     w = s.workspace
     assert w is not None and w.ws.samples == SAMPLES
     assert seen and seen == sorted(seen) and 0.0 < seen[-1] <= 1.0
-    assert panel.workspace_words.text() == report.workspace_words(win.state.chain, w.ws)
+    assert panel.workspace_words.text() == "\n".join(report.workspace_lines(win.state.chain, w.ws))  # the CLI's
     assert "mm³" in panel.workspace_words.text()
+    assert panel.caution.text() == report.STUDY_CAUTION
     assert "mm³" in panel.legend.text()
     layers = win.view.studies
     assert layers.cloud.visible() and layers.cloud.count == len(w.ws.points) > 0
@@ -417,7 +418,10 @@ def test_placement_search_lists_the_best_and_draws_the_coverage_map(make_window,
     assert panel.place_table.rowCount() == len(p.placement.best)
     first = p.placement.best[0]
     assert panel.place_table.item(0, 5).text() == str(first.reached)
-    assert panel.place_table.item(0, 1).text() == report.fmt(first.xyz[0], 1)
+    assert panel.place_table.item(0, 1).text() == report.fmt(first.xyz[0], report.length_digits(win.state.chain))
+    names = [t.name for t in s.targets.targets]
+    assert report.placement_words(win.state.chain, first, 7, names) in panel.place_words.text()  # the CLI's
+    assert report.PLACEMENT_NOTE in panel.place_words.text()
     heads = [panel.place_table.horizontalHeaderItem(c).text() for c in range(panel.place_table.columnCount())]
     assert heads[1] == "x [mm]" and heads[4] == "yaw [deg]" and heads[5] == "reached [of 7]"
     assert layers.coverage.visible() and layers.coverage.tiles == 9
@@ -465,9 +469,11 @@ def test_the_test_cube_is_found_drawn_and_worded(make_window):
     assert cb.workspace is s.workspace.ws  # the Workspace tab's, not measured again
     assert cb.edge > 0 and len(cb.study.verdicts) == 5
     words = panel.cube_words.text()
-    assert report.length(win.state.chain, cb.edge, 1) in words and "from memory" in words
+    assert "from memory" in words
+    for line in report.cube_lines(win.state.chain, cb):  # what poser cube prints, each verdict with its shape
+        assert line.strip() in words
     for v in cb.study.verdicts:
-        assert report.reach_words(win.state.chain, v) in words
+        assert f"{studies_mod.VERDICT_SYMBOLS[v.status]} {v.target.name}" in words
     assert layers.cube.visible() and layers.cube_marks.visible()
     assert sum(layers.cube_marks.counts.values()) == 5
     assert len(layers.cube._edges.pos) == 24  # twelve edges
