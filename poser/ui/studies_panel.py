@@ -99,8 +99,9 @@ class StudiesPanel(QWidget):
         self.message = _wrapped("study message")
         lay.addWidget(self.message)
         lay.addLayout(tl)
-        self.caution = _note(report.STUDY_CAUTION)
+        self.caution = _note(report.STUDY_CAUTION)  # under the toggles: always in sight, never scrolled away
         self.caution.setAccessibleName("studies caution")
+        lay.addWidget(self.caution)
 
         # workspace -----------------------------------------------------------------------------
         self.tabs = QTabWidget()
@@ -177,7 +178,6 @@ class StudiesPanel(QWidget):
         self.tabs.addTab(self._placement_tab(), "Placement")
         self.tabs.addTab(self._cube_tab(), "Cube")
         lay.addWidget(self.tabs, 1)
-        lay.addWidget(self.caution)
 
         self.studies.changed.connect(self._on_studies)
         state.changed.connect(self._on_state)
