@@ -21,16 +21,21 @@ _APP = None
 
 
 def application():
-    """The QGuiApplication for drawing (made once, offscreen when there is no display)."""
+    """The application for drawing (made once, offscreen when there is no display).
+
+    A ``QApplication``, not a bare ``QGuiApplication``: a process that draws a picture may open a window later
+    (the test suite does both in one process), and Qt aborts when a widget is made under a QGuiApplication.
+    """
     global _APP
     from PySide6.QtGui import QGuiApplication
+    from PySide6.QtWidgets import QApplication
 
     app = QGuiApplication.instance()
     if app is not None:
         return app
     if not os.environ.get("DISPLAY") and not os.environ.get("WAYLAND_DISPLAY"):
         os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
-    _APP = QGuiApplication(["poser-plot"])
+    _APP = QApplication(["poser-plot"])
     return _APP
 
 
