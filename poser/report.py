@@ -49,6 +49,12 @@ __all__ = [
     "spin_text",
     "reach_words",
     "reach_summary",
+    "margin_cell",
+    "manipulability_figure",
+    "move_cells",
+    "spin_cell",
+    "configuration_cell",
+    "inside_workspace_words",
     "ISO_9283_NOTE",
     "NEAR_LIMIT_MARGIN",
     "STUDY_CAUTION",
@@ -560,6 +566,38 @@ def miss_text(chain, miss) -> str:
     return " and ".join(parts) or "a hair"
 
 
+def margin_cell(chain, v) -> str:
+    """A reach verdict's worst limit margin as a table cell: ``"J5 40 deg (16.2 %)"``; ``"–"`` without a branch."""
+    if v.margin_joint is None:
+        return "–"
+    j = v.margin_joint
+    return f"{printable(chain.names[j])} {joint_value(chain, j, v.margin)} ({fmt(100 * v.margin_fraction, 1)} %)"
+
+
+def manipulability_figure(chain, m) -> str:
+    """The figure of :func:`manipulability_text` without its unit (the unit goes in a column header); ``"–"``
+    for None."""
+    return "–" if m is None else manipulability_text(chain, m).split(" ")[0]
+
+
+def move_cells(chain, v) -> tuple[str, str]:
+    """A reach verdict's joint moves as two cells: (turns in the arm's angle unit, slides in its length unit)."""
+    a = "–" if v.move is None else fmt(float(chain.units.angle_out(v.move[0])), 2)
+    b = "–" if v.move is None else fmt(v.move[1], 2)
+    return a, b
+
+
+def configuration_cell(v) -> str:
+    """A reach verdict's chosen configuration as a table cell, ``" (changed)"`` when it differs from the one
+    before; ``"–"`` without a branch."""
+    return "–" if v.configuration is None else printable(v.configuration) + (" (changed)" if v.changed else "")
+
+
+def spin_cell(chain, spin) -> str:
+    """The chosen spin about tool Z as a table cell, the unit in the header: ``"35.2"``; ``"–"`` without one."""
+    return "–" if spin is None else fmt(float(chain.units.angle_out(spin)), 2)
+
+
 def spin_text(chain, spin) -> str:
     """The chosen spin about tool Z of a free-spin target: ``"35.2 deg"``; ``"–"`` without one."""
     return "–" if spin is None else angle(chain, spin)
@@ -715,3 +753,15 @@ def cube_lines(chain, cube) -> list[str]:
     lines.append(f"{cube.study.reached} of {len(cube.study.verdicts)} positions reached within limits.")
     lines.append(ISO_9283_NOTE[0].upper() + ISO_9283_NOTE[1:] + ".")
     return lines
+
+
+def inside_workspace_words(chain, inside) -> str:
+    """Whether the target lies inside the computed workspace (``inside`` True / False, or None when no
+    workspace is computed for this arm)."""
+    if inside is None:
+        return "Workspace: none computed yet for this arm (Studies ▸ Workspace), so no inside/outside verdict."
+    if inside:
+        return ("Inside the computed workspace: some pose within the limits puts the tool point there "
+                "(orientation not considered; within one grid cell of the boundary it may go either way).")
+    return ("Outside the computed workspace: no pose within the limits puts the tool point there (within one "
+            "grid cell of the boundary it may go either way).")

@@ -127,20 +127,6 @@ def study_json(chain, study, tf) -> dict:
     }
 
 
-def _margin_cell(chain, v):
-    if v.margin_joint is None:
-        return "–"
-    j = v.margin_joint
-    return (f"{report.printable(chain.names[j])} {report.joint_value(chain, j, v.margin)} "
-            f"({report.fmt(100 * v.margin_fraction, 1)} %)")
-
-
-def _move_cells(chain, v):
-    a = "–" if v.move is None else report.fmt(float(chain.units.angle_out(v.move[0])), 2)
-    b = "–" if v.move is None else report.fmt(v.move[1], 2)
-    return a, b
-
-
 def _table(chain, study):
     units = chain.units
     P = report.printable
@@ -153,15 +139,15 @@ def _table(chain, study):
     heads += ["worst limit margin", f"manip. [{report.manipulability_unit(chain)}]", f"spin [{units.angle}]"]
     rows = []
     for v in study.verdicts:
-        a, b = _move_cells(chain, v)
-        config = "–" if v.configuration is None else P(v.configuration) + (" (changed)" if v.changed else "")
+        a, b = report.move_cells(chain, v)
+        config = report.configuration_cell(v)
         row = [str(v.target.line or ""), P(v.target.name), v.status, str(v.branches), config]
         if rev:
             row.append(a)
         if pri:
             row.append(b)
-        man = "–" if v.manipulability is None else report.manipulability_text(chain, v.manipulability).split(" ")[0]
-        row += [_margin_cell(chain, v), man, "–" if v.spin is None else report.fmt(float(units.angle_out(v.spin)), 2)]
+        man = report.manipulability_figure(chain, v.manipulability)
+        row += [report.margin_cell(chain, v), man, report.spin_cell(chain, v.spin)]
         rows.append(row)
     widths = [max(len(h), *(len(r[c]) for r in rows)) for c, h in enumerate(heads)]
     right = {0, 3} | {i for i, h in enumerate(heads) if h.startswith(("moves", "manip.", "spin"))}

@@ -9,6 +9,10 @@ CAUTIONS = [
     "it does not plan paths, check collisions or drive a controller.",
     "Verify every joint limit and every reach on the real controller before you rely on a number from Poser; "
     "the arm file may not match the robot as built.",
+    "Studies (workspace, reach, placement, test cube) are not a plan for a real robot: they include joint limits, "
+    "base and tool but no collisions between links, with the cell or with the work, no cable or payload limits, and "
+    "sampled figures carry the error they state. Verify every study result on the robot's controller before it "
+    "moves.",
     "Keep out of the safeguarded space when jogging a real arm, and jog at reduced speed with an enabling device.",
     "Follow ISO 10218 (robot safety), your local codes and licensed practice for installing, teaching and running "
     "industrial robots.",
@@ -99,6 +103,24 @@ SECTIONS = [
      "home means 0, or the middle of the range when 0 is outside it. Switching the DH convention asks: "
      "<i>convert the table</i> (the same physical arm and tool pose, other numbers) or <i>keep the numbers</i> "
      "(read in the other convention: another arm)."),
+    ("Studies",
+     "The Studies panel (Ctrl+6, menu Studies) runs four studies in the background, one at a time, with a progress "
+     "bar; <i>Cancel</i> (Ctrl+., or Esc in the panel) stops the running one and leaves every result as it was. "
+     "<i>Workspace</i>: joint samples within the limits (with base and tool) give the volume (an area for a planar "
+     "arm) with its error, the bounds, a point cloud coloured by the rank of its manipulability (orange lowest, blue "
+     "highest) and section outlines: a vertical one through the base axis and a horizontal one at the height you "
+     "choose. The Target panel then says whether the target lies inside it. <i>Reach</i>: load a target list "
+     "(CSV: name, x, y, z; optional roll, pitch, yaw in the arm's angle unit and free_spin yes/no — any turn about "
+     "tool Z will do; numbers in the arm's units; malformed rows are reported by line and skipped) and check every "
+     "target from home, each from the one before, with the same numbers as <tt>poser reach</tt>. The table sorts by "
+     "any column; choosing a row makes it the target. In the 3D view a ● ball is reached within limits, a ✕ star is "
+     "blocked by limits, a ◇ diamond is out of reach — shape and colour both say it. <i>Placement</i>: base "
+     "positions (and yaw) on a grid with their units and steps, scored by the targets reached, then the smallest "
+     "limit margin, then manipulability; the best are listed and the coverage map shows a tile per base position, "
+     "pale (none) → amber (half) → green (all). <i>Cube</i>: the largest cube along the base axes in the workspace "
+     "and the five ISO 9283 test positions on a diagonal plane (laid out from memory of the standard: check them "
+     "before a formal test), each checked with the tool orientation you choose. <i>Show in 3D</i> switches each "
+     "drawing on and off. Another arm clears every study of the previous one."),
     ("Saving",
      "File ▸ Open, Save (Ctrl+S), Save As. Save writes exactly what the editor shows and keeps your comments "
      "with their joints. Before writing, Poser checks that the file is still the one it loaded (time, size and "
@@ -116,7 +138,9 @@ SECTIONS = [
      "and file, and how the 3D view is drawn (or why the 2D three-view is shown). A text too long for the bar "
      "ends in … ; hover it to read it whole."),
     ("Keys",
-     "Ctrl+1 … Ctrl+5 go to the 3D view, Joints, Frames, Target and Arm editor; Ctrl+O open, Ctrl+S save, "
+     "Ctrl+1 … Ctrl+6 go to the 3D view, Joints, Frames, Target, Arm editor and Studies; Ctrl+Shift+W workspace, "
+     "Ctrl+Shift+L load targets, Ctrl+Shift+R reach study, Ctrl+Shift+P placement search, Ctrl+Shift+B test cube, "
+     "Ctrl+. cancel the running study; Ctrl+O open, Ctrl+S save, "
      "Ctrl+Shift+S save as, Ctrl+Q quit, F1 this guide. In the branch list: Up/Down pick a branch, Right/Left "
      "open and close a configuration, Enter applies it, Ctrl+C copies its joint values. Tab moves through every "
      "control."),

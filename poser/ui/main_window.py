@@ -132,6 +132,9 @@ class MainWindow(QMainWindow):
         self.target = TargetPanel(self.state, self.solver, self.animator)
         self.editor = EditorPanel(self.state)
         self.editor.ask = self.ask
+        from poser.ui.studies_panel import StudiesPanel
+
+        self.studies = StudiesPanel(self.state)
         placeholder = QWidget()
         placeholder.setMaximumSize(0, 0)
         self.setCentralWidget(placeholder)
@@ -144,6 +147,7 @@ class MainWindow(QMainWindow):
             ("target", "Target", self.target, Qt.DockWidgetArea.RightDockWidgetArea),
             ("frames", "Frames", self.frames, Qt.DockWidgetArea.RightDockWidgetArea),
             ("editor", "Arm editor", self.editor, Qt.DockWidgetArea.RightDockWidgetArea),
+            ("studies", "Studies", self.studies, Qt.DockWidgetArea.RightDockWidgetArea),
         ):
             d = QDockWidget(title, self)
             d.setObjectName(f"dock_{key}")
@@ -163,6 +167,7 @@ class MainWindow(QMainWindow):
         self.splitDockWidget(self.docks["joints"], self.docks["target"], Qt.Orientation.Vertical)
         self.tabifyDockWidget(self.docks["target"], self.docks["frames"])
         self.tabifyDockWidget(self.docks["frames"], self.docks["editor"])
+        self.tabifyDockWidget(self.docks["editor"], self.docks["studies"])
         self.docks["target"].raise_()
         self.frames.set_seen(False)
         self.docks["frames"].visibilityChanged.connect(self.frames.set_seen)
@@ -292,13 +297,15 @@ class MainWindow(QMainWindow):
             vm.addAction(ortho)
             self.ortho_action = ortho
         vm.addSeparator()
-        for k, key in enumerate(("view", "joints", "frames", "target", "editor"), start=1):
+        for k, key in enumerate(("view", "joints", "frames", "target", "editor", "studies"), start=1):
             act = self.docks[key].toggleViewAction()
             vm.addAction(act)
             go = QAction(f"Go to {self.docks[key].windowTitle()}", self)
             go.setShortcut(QKeySequence(f"Ctrl+{k}"))
             go.triggered.connect(lambda _=False, kk=key: self.focus_panel(kk))
             self.addAction(go)
+
+        self.studies.fill_menu(mb.addMenu("Stu&dies"))
 
         hm = mb.addMenu("&Help")
         self._act(hm, "&Guide", lambda: self._help(False), QKeySequence.StandardKey.HelpContents)
@@ -319,7 +326,7 @@ class MainWindow(QMainWindow):
         w = d.widget()
         target = {"view": getattr(self.view, "container", self.view), "joints": self.joints.home_button,
                   "frames": self.frames.link_combo, "target": self.target.xyz[0],
-                  "editor": self.editor.name}.get(key, w)
+                  "editor": self.editor.name, "studies": self.studies.tabs}.get(key, w)
         target.setFocus(Qt.FocusReason.ShortcutFocusReason)
 
     def _help(self, cautions: bool) -> None:
@@ -679,6 +686,7 @@ class MainWindow(QMainWindow):
             return
         self._close_agreed = True  # asked once; closing again on the way out asks nothing
         self.solver.shutdown()
+        self.state.studies.shutdown()
         self._disk_timer.stop()
         self._disk_event.stop()
         self.recovery.close(flush=True)

@@ -177,6 +177,9 @@ class PoseState(QObject):
         self._unapplied: tuple = ()
         self._arm_generation = 0
         self.writer: object | None = None  # the panel whose write is being broadcast (for echo guards)
+        from poser.ui.studies import Studies
+
+        self.studies = Studies(self)  # the studies' own model (poser.ui.studies); it clears itself on "arm"
 
     # -- reading ------------------------------------------------------------------
     @property

@@ -138,6 +138,10 @@ class TargetPanel(QWidget):
         self.summary.setAccessibleName("solution summary")
         self.summary.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
         lay.addWidget(self.summary)
+        from poser.ui.studies_panel import WorkspaceVerdict
+
+        self.inside = WorkspaceVerdict(state)  # inside the computed workspace, or none computed yet
+        lay.addWidget(self.inside)
         list_row = QHBoxLayout()
         self.within_only = QCheckBox("Only w&ithin limits")
         self.within_only.setToolTip("list (and draw as ghosts) only the branches that reach the target with every "

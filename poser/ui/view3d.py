@@ -193,6 +193,9 @@ class View3D(QWidget):
         for group in (self.mount, self.floor, self.trail, self.arm, self.below, self.triads, self.joint_triads,
                       self.target, self.nearest, self.ghosts):
             group.add_to(self.view)
+        from poser.ui.study_view import StudyLayers
+
+        self.studies = StudyLayers(state, self.view, self.labels)  # workspace cloud, sections, reach targets
         self.gizmo = GLAxesGizmo()
         self.view.addItem(self.labels)
         self.view.addItem(self.gizmo)
