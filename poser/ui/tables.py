@@ -56,6 +56,8 @@ _ROOT = QModelIndex()
 
 _RIGHT = Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignTop
 _LEFT = Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignTop
+_HOVER_SHADE = QColor(palette.GHOST_HOVER)
+_HOVER_SHADE.setAlpha(40)  # the hovered ghost's colour, faint: the row and its ghost go together
 
 
 class BranchModel(QAbstractItemModel):
@@ -73,6 +75,7 @@ class BranchModel(QAbstractItemModel):
         self.groups: list[list[int]] = []
         self._where: dict = {}  # branch index → (group, position in the group)
         self._moves: dict = {}
+        self.hovered = -1  # the branch under the pointer (its row is shaded: the ghost in the view is this one)
         self.header_tips = {
             COL_NUMBER: "branch number (the same as poser ik's and the ghost's label); '+8' under it: eight more "
                         "branches of this configuration (turn variants), listed when the row is opened "
@@ -90,7 +93,16 @@ class BranchModel(QAbstractItemModel):
         self.groups = group_branches(self.state.branches, shown) if self.rows else []
         self._where = {i: (g, k) for g, members in enumerate(self.groups) for k, i in enumerate(members)}
         self._moves = {}
+        self.hovered = int(self.state.hovered)
         self.endResetModel()
+
+    def set_hovered(self, branch: int) -> None:
+        """Shade the row of ``branch`` (-1: none); only the rows whose shade changes are announced."""
+        old, self.hovered = self.hovered, int(branch)
+        for b in {old, self.hovered} - {-1}:
+            first = self.index_of(b, 0)
+            if first.isValid():
+                self.dataChanged.emit(first, self.index_of(b, len(COLUMNS) - 1), [Qt.ItemDataRole.BackgroundRole])
 
     def moves_changed(self) -> None:
         """The present pose moved: only the largest-move column changes (no other cell is announced)."""
@@ -230,6 +242,8 @@ class BranchModel(QAbstractItemModel):
                 return QColor(palette.LEVEL_COLOURS[row.level])
         elif role == Qt.ItemDataRole.TextAlignmentRole:
             return _RIGHT if c in (COL_MANIP, COL_MOVE) else _LEFT
+        elif role == Qt.ItemDataRole.BackgroundRole and i == self.hovered:
+            return _HOVER_SHADE
         return None
 
 

@@ -514,6 +514,7 @@ class TargetPanel(QWidget):
             self.copy_button.setEnabled(st.selected >= 0)
             self._show_details()
         elif field == "hovered":
+            self.model.set_hovered(st.hovered)
             self._show_details()
         elif field == "q" and st.branches:
             self.model.moves_changed()

@@ -302,3 +302,20 @@ def test_a_joint_change_does_not_restyle_the_branch_details(make_window, qtbot):
     assert sheets and details.styleSheet() == f"color: {palette.AT}"
     st.hover_branch(-1)
     assert details.styleSheet() == f"color: {palette.MUTED}"
+
+
+def test_the_hovered_row_is_shaded_like_its_ghost(make_window, qtbot):
+    """Hovering a branch (pointer or state) shades its row in the list, and only its row; leaving clears it."""
+    win = make_window(size=(1280, 800))
+    win.set_target_values([900, -300, 900, 180, 0, 0])
+    model, st = win.target.model, win.state
+    role = Qt.ItemDataRole.BackgroundRole
+    assert all(model.data(model.index_of(i, COL_LABEL), role) is None for i in range(len(st.branches)))
+    changed = []
+    model.dataChanged.connect(lambda a, b, roles=(): changed.append((model.branch_of(a), tuple(roles))))
+    st.hover_branch(2)
+    shaded = [i for i in range(len(st.branches)) if model.data(model.index_of(i, COL_LIMITS), role) is not None]
+    assert shaded == [2]
+    assert changed and all(b == 2 and roles == (role,) for b, roles in changed)  # one row announced, one role
+    st.hover_branch(-1)
+    assert model.data(model.index_of(2, COL_LIMITS), role) is None
